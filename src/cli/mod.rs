@@ -1,0 +1,75 @@
+//! The command-line interface: argument definitions and the glue that turns
+//! them into library calls. No algorithm lives here.
+//!
+//! Each command has a file holding its clap arguments and a `run` function
+//! that validates them (cheaply, before any long work), calls the library and
+//! returns what to print on stdout with the exit code.
+
+mod inspect;
+mod net_args;
+
+use clap::{Parser, Subcommand};
+
+pub use net_args::NetArgs;
+
+use crate::error::Result;
+
+/// What a command produced: text for stdout and the exit code.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Outcome {
+    /// Everything the command prints on stdout.
+    pub stdout: String,
+    /// The process exit code (0 ok, 1 cannot be done as asked).
+    pub code: u8,
+}
+
+impl Outcome {
+    /// A successful outcome printing `stdout`.
+    pub fn ok(stdout: String) -> Outcome {
+        Outcome { stdout, code: 0 }
+    }
+}
+
+/// sliceplan: memory-budget slicing advisor for tensor-network contraction.
+///
+/// Exit codes: 0 success, 1 the job cannot be done as asked (e.g. it cannot
+/// fit the budget), 2 bad input or usage.
+#[derive(Debug, Parser)]
+#[command(name = "sliceplan", version, about, long_about = None, max_term_width = 100)]
+pub struct Cli {
+    /// The command to run.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Summarise a network and price a contraction tree.
+    #[command(after_help = inspect::EXAMPLES)]
+    Inspect(inspect::InspectArgs),
+}
+
+/// Runs a parsed command line.
+pub fn run(cli: Cli) -> Result<Outcome> {
+    match cli.command {
+        Command::Inspect(args) => inspect::run(args),
+    }
+}
+
+/// Prints JSON for `--json` output (one object, newline-terminated).
+pub(crate) fn to_json<T: serde::Serialize>(value: &T) -> String {
+    let mut s = serde_json::to_string_pretty(value).expect("reports always serialise");
+    s.push('\n');
+    s
+}
+
+#[cfg(test)]
+mod tests {
+    use clap::CommandFactory;
+
+    #[test]
+    fn cli_definition_is_consistent() {
+        super::Cli::command().debug_assert();
+    }
+}

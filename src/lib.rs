@@ -1,0 +1,21 @@
+//! sliceplan: a memory-budget slicing advisor for tensor-network contraction.
+//!
+//! Data flows one way (DESIGN §4): input formats build a validated
+//! [`network::Network`]; a [`tree::Tree`] says how to contract it; [`cost`]
+//! prices the tree (total ops, width, op width, peak, height), whole or per
+//! slice; [`report`] renders the results; [`cli`] is the thin glue the
+//! `sliceplan` binary calls.
+
+#![warn(missing_docs)]
+
+pub mod cli;
+pub mod cost;
+pub mod error;
+pub mod formats;
+pub mod io;
+pub mod network;
+pub mod num;
+pub mod report;
+pub mod tree;
+
+pub use error::{Error, Result};

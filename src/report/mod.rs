@@ -1,0 +1,67 @@
+//! Rendering results for people (aligned text) and scripts (JSON).
+
+pub mod inspect;
+mod table;
+
+pub use table::Table;
+
+/// Formats a log2 value with two decimals (`-inf` as `-`).
+pub fn log2_str(x: f64) -> String {
+    if x.is_finite() {
+        format!("{x:.2}")
+    } else {
+        "-".into()
+    }
+}
+
+/// Formats an element or byte count given as log2 in human units,
+/// e.g. `2^33.00 = 8.00 Gi`.
+pub fn pow2_human(log2: f64) -> String {
+    if !log2.is_finite() {
+        return "0".into();
+    }
+    const UNITS: [&str; 7] = ["", "Ki", "Mi", "Gi", "Ti", "Pi", "Ei"];
+    let step = ((log2 / 10.0).floor().max(0.0) as usize).min(UNITS.len() - 1);
+    let mantissa = (log2 - 10.0 * step as f64).exp2();
+    format!("2^{log2:.2} = {mantissa:.2} {}", UNITS[step])
+        .trim_end()
+        .to_string()
+}
+
+/// Groups the digits of a decimal string (`40500` → `40,500`); other text
+/// (such as `2^130.00`) is returned unchanged.
+pub fn group_decimal(s: &str) -> String {
+    match s.parse::<u128>() {
+        Ok(v) => crate::num::group_thousands(v),
+        Err(_) => s.to_string(),
+    }
+}
+
+/// Formats bytes in binary units, e.g. `1.50 GiB`.
+pub fn bytes_human(bytes: f64) -> String {
+    const UNITS: [&str; 7] = ["B", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB"];
+    let mut v = bytes;
+    let mut u = 0;
+    while v >= 1024.0 && u < UNITS.len() - 1 {
+        v /= 1024.0;
+        u += 1;
+    }
+    if u == 0 {
+        format!("{v:.0} B")
+    } else {
+        format!("{v:.2} {}", UNITS[u])
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn human_units() {
+        assert_eq!(bytes_human(1536.0 * 1024.0 * 1024.0), "1.50 GiB");
+        assert_eq!(bytes_human(100.0), "100 B");
+        assert_eq!(pow2_human(33.0), "2^33.00 = 8.00 Gi");
+        assert_eq!(pow2_human(3.0), "2^3.00 = 8.00");
+    }
+}
