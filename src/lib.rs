@@ -13,8 +13,10 @@ pub mod cost;
 pub mod error;
 pub mod formats;
 pub mod io;
+pub mod jobs;
 pub mod network;
 pub mod num;
+pub mod plan;
 pub mod report;
 pub mod tree;
 
