@@ -5,8 +5,12 @@
 //! that validates them (cheaply, before any long work), calls the library and
 //! returns what to print on stdout with the exit code.
 
+mod budget_args;
+mod fit;
 mod inspect;
 mod net_args;
+mod report;
+mod tree_source;
 
 use clap::{Parser, Subcommand};
 
@@ -48,12 +52,20 @@ pub enum Command {
     /// Summarise a network and price a contraction tree.
     #[command(after_help = inspect::EXAMPLES)]
     Inspect(inspect::InspectArgs),
+    /// Will it fit the budget? With how many slices, at what overhead?
+    #[command(after_help = fit::EXAMPLES)]
+    Fit(fit::FitArgs),
+    /// Re-render a plan (text, JSON, CSV, SVG, steps) without searching.
+    #[command(after_help = report::EXAMPLES)]
+    Report(report::ReportArgs),
 }
 
 /// Runs a parsed command line.
 pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
+        Command::Fit(args) => fit::run(args),
+        Command::Report(args) => report::run(args),
     }
 }
 

@@ -130,7 +130,7 @@ impl Point {
 }
 
 /// Where a candidate slice set came from.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Origin {
     /// No slicing.
@@ -146,7 +146,7 @@ pub enum Origin {
 }
 
 /// What the cover programme proved and proposed.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct CoverReport {
     /// Largest tensor (elements) a slice may hold under the budget.
     pub cap_elements: f64,
