@@ -56,7 +56,7 @@ pub struct SliceOptions {
     pub max_candidates: usize,
     /// Run the cover programme.
     pub cover: bool,
-    /// Seconds the cover programme may take per solve.
+    /// Seconds the cover programme may take in all.
     pub cover_seconds: f64,
 }
 
