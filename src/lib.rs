@@ -18,6 +18,7 @@ pub mod network;
 pub mod num;
 pub mod plan;
 pub mod report;
+pub mod search;
 pub mod tree;
 
 pub use error::{Error, Result};
