@@ -7,10 +7,12 @@
 
 mod inspect;
 mod net_args;
+mod plan;
 
 use clap::{Parser, Subcommand};
 
 pub use net_args::NetArgs;
+pub use plan::{parse_duration, PlanArgs, PlanOptions};
 
 use crate::error::Result;
 
@@ -48,12 +50,16 @@ pub enum Command {
     /// Summarise a network and price a contraction tree.
     #[command(after_help = inspect::EXAMPLES)]
     Inspect(inspect::InspectArgs),
+    /// Search for a good contraction tree (time- or trial-bounded).
+    #[command(after_help = plan::EXAMPLES)]
+    Plan(plan::PlanArgs),
 }
 
 /// Runs a parsed command line.
 pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
+        Command::Plan(args) => plan::run(args),
     }
 }
 

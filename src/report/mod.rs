@@ -1,6 +1,7 @@
 //! Rendering results for people (aligned text) and scripts (JSON).
 
 pub mod inspect;
+pub mod plan;
 mod table;
 
 pub use table::Table;
