@@ -12,13 +12,16 @@ pub mod cli;
 pub mod cost;
 pub mod error;
 pub mod formats;
+pub mod generate;
 pub mod io;
 pub mod jobs;
 pub mod network;
+pub mod npy;
 pub mod num;
 pub mod plan;
 pub mod report;
 pub mod search;
+pub mod slicing;
 pub mod tree;
 
 pub use error::{Error, Result};

@@ -10,6 +10,9 @@
 //! then prices the tree for any dimensions, which is how slicing is priced:
 //! a sliced index simply has dimension 1 in [`Dims::sliced`].
 
+pub mod bytes;
+pub mod machine;
+pub mod memory;
 pub mod peak;
 
 use serde::Serialize;
@@ -184,6 +187,16 @@ impl NodeSets {
     /// Number of leaves.
     pub fn leaves(&self) -> usize {
         self.leaves
+    }
+
+    /// The operands of merge `k`.
+    pub fn merge(&self, k: usize) -> [usize; 2] {
+        self.merges[k]
+    }
+
+    /// Number of merges.
+    pub fn num_merges(&self) -> usize {
+        self.merges.len()
     }
 
     /// Prices the tree with the given dimensions.

@@ -10,6 +10,7 @@
 mod builder;
 mod fingerprint;
 mod summary;
+pub mod values;
 
 pub use builder::NetworkBuilder;
 pub use summary::Summary;

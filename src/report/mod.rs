@@ -22,6 +22,9 @@ pub fn pow2_human(log2: f64) -> String {
         return "0".into();
     }
     const UNITS: [&str; 7] = ["", "Ki", "Mi", "Gi", "Ti", "Pi", "Ei"];
+    if log2 >= 70.0 {
+        return format!("2^{log2:.2}");
+    }
     let step = ((log2 / 10.0).floor().max(0.0) as usize).min(UNITS.len() - 1);
     let mantissa = (log2 - 10.0 * step as f64).exp2();
     format!("2^{log2:.2} = {mantissa:.2} {}", UNITS[step])
@@ -29,11 +32,13 @@ pub fn pow2_human(log2: f64) -> String {
         .to_string()
 }
 
-/// Groups the digits of a decimal string (`40500` → `40,500`); other text
-/// (such as `2^130.00`) is returned unchanged.
+/// Groups the digits of a decimal string (`40500` → `40,500`); numbers of
+/// 10^15 and more print in scientific notation, and other text (such as
+/// `2^130.00`) is returned unchanged.
 pub fn group_decimal(s: &str) -> String {
     match s.parse::<u128>() {
-        Ok(v) => crate::num::group_thousands(v),
+        Ok(v) if v < 1_000_000_000_000_000 => crate::num::group_thousands(v),
+        Ok(v) => format!("{:.3e}", v as f64),
         Err(_) => s.to_string(),
     }
 }

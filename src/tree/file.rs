@@ -115,6 +115,13 @@ fn check_merges(net: &Network, merges: Vec<[usize; 2]>) -> std::result::Result<T
             net.tensors[t].name
         ));
     }
+    for (k, &[a, b]) in merges.iter().enumerate() {
+        if let Some(c) = [a, b].into_iter().find(|&c| c >= n + k) {
+            return Err(format!(
+                "merge {k} uses node {c}, which does not exist yet (nodes 0..{n} are tensors, merge k makes node {n}+k)"
+            ));
+        }
+    }
     if let Some(t) = seen.iter().position(|&s| s == 0) {
         if n > 1 {
             return Err(format!(

@@ -1,0 +1,81 @@
+//! What one process needs in memory to run slices of a plan.
+//!
+//! The executor keeps every full input tensor once (shared by all slices it
+//! runs), an accumulator the size of the full output, and for each slice
+//! running at once that slice's peak under [`PeakModel::EXECUTOR`] (sliced
+//! inputs copied in at first use, permuted operand copies, the result, and
+//! the final permute of the root). The plan's budget must cover the sum.
+
+use serde::Serialize;
+
+use super::{NodeSets, PeakModel};
+use crate::network::{Dtype, IndexId, Network};
+use crate::num::Count;
+
+/// Bytes one process needs, by part.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct MemoryNeed {
+    /// All full input tensors, held once.
+    pub inputs_bytes: f64,
+    /// The output accumulator (full output, whatever is sliced).
+    pub output_bytes: f64,
+    /// Peak of one slice under the executor's model.
+    pub per_slice_peak_bytes: f64,
+    /// Slices running at once in the process.
+    pub slices_at_once: u64,
+}
+
+impl MemoryNeed {
+    /// The total: inputs + output + slices at once x per-slice peak.
+    pub fn total_bytes(&self) -> f64 {
+        self.inputs_bytes
+            + self.output_bytes
+            + self.slices_at_once as f64 * self.per_slice_peak_bytes
+    }
+
+    /// The part that slicing cannot reduce (inputs and output).
+    pub fn fixed_bytes(&self) -> f64 {
+        self.inputs_bytes + self.output_bytes
+    }
+}
+
+/// Bytes of all full input tensors.
+pub fn inputs_bytes(net: &Network, dtype: Dtype) -> f64 {
+    let elements: f64 = (0..net.num_tensors())
+        .map(|t| net.tensor_size_log2(t).exp2())
+        .sum();
+    elements * dtype.bytes() as f64
+}
+
+/// Bytes of the full output.
+pub fn output_bytes(net: &Network, dtype: Dtype) -> f64 {
+    let log2: f64 = net
+        .open
+        .iter()
+        .map(|&e| (net.indices[e].dim as f64).log2())
+        .sum();
+    log2.exp2() * dtype.bytes() as f64
+}
+
+/// The per-slice peak in elements under the executor's model.
+pub fn per_slice_peak(sets: &NodeSets, net: &Network, sliced: &[IndexId]) -> Count {
+    sets.evaluate_sliced(net, sliced, PeakModel::EXECUTOR)
+        .per_slice
+        .peak
+}
+
+/// What a process running `at_once` slices with slice set `sliced` needs.
+pub fn memory_need(
+    sets: &NodeSets,
+    net: &Network,
+    sliced: &[IndexId],
+    dtype: Dtype,
+    at_once: u64,
+) -> MemoryNeed {
+    MemoryNeed {
+        inputs_bytes: inputs_bytes(net, dtype),
+        output_bytes: output_bytes(net, dtype),
+        per_slice_peak_bytes: per_slice_peak(sets, net, sliced).to_f64() * dtype.bytes() as f64,
+        slices_at_once: at_once,
+    }
+}
