@@ -9,12 +9,14 @@ mod budget_args;
 mod fit;
 mod inspect;
 mod net_args;
+mod plan;
 mod report;
 mod tree_source;
 
 use clap::{Parser, Subcommand};
 
 pub use net_args::NetArgs;
+pub use plan::{parse_duration, PlanArgs, PlanOptions};
 
 use crate::error::Result;
 
@@ -58,6 +60,9 @@ pub enum Command {
     /// Re-render a plan (text, JSON, CSV, SVG, steps) without searching.
     #[command(after_help = report::EXAMPLES)]
     Report(report::ReportArgs),
+    /// Search for a good contraction tree (time- or trial-bounded).
+    #[command(after_help = plan::EXAMPLES)]
+    Plan(plan::PlanArgs),
 }
 
 /// Runs a parsed command line.
@@ -66,6 +71,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Inspect(args) => inspect::run(args),
         Command::Fit(args) => fit::run(args),
         Command::Report(args) => report::run(args),
+        Command::Plan(args) => plan::run(args),
     }
 }
 
