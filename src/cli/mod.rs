@@ -11,12 +11,14 @@ mod inspect;
 mod net_args;
 mod plan;
 mod report;
+mod search_args;
 mod tree_source;
 
 use clap::{Parser, Subcommand};
 
 pub use net_args::NetArgs;
-pub use plan::{parse_duration, PlanArgs, PlanOptions};
+pub use plan::{PlanArgs, PlanOptions};
+pub use search_args::parse_duration;
 
 use crate::error::Result;
 
