@@ -129,7 +129,7 @@ fn plan_then_report_and_steps_reproduce_the_ghz_state() {
     let slices: u64 = sliced.iter().map(|s| s.1).product();
     assert!(slices >= 2, "slicing was forced");
     // The full state, indexed by the open indices in network order.
-    let mut state = vec![Complex64::new(0.0, 0.0); 8];
+    let mut state = [Complex64::new(0.0, 0.0); 8];
     for s in 0..slices {
         let mut fixed: HashMap<String, u64> = HashMap::new();
         let mut rest = s;
