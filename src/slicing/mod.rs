@@ -31,7 +31,7 @@ pub mod greedy;
 
 use serde::Serialize;
 
-use crate::cost::memory::{memory_need, MemoryNeed};
+use crate::cost::memory::{inputs_bytes, output_bytes, MemoryNeed};
 use crate::cost::{NodeSets, PeakModel};
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::Count;
@@ -113,7 +113,12 @@ impl Point {
             per_slice_width: s.per_slice.width,
             per_slice_peak: s.per_slice.peak,
             total_ops: s.total_ops,
-            need: memory_need(sets, net, sliced, opts.dtype, opts.slices_at_once),
+            need: MemoryNeed {
+                inputs_bytes: inputs_bytes(net, opts.dtype),
+                output_bytes: output_bytes(net, opts.dtype),
+                per_slice_peak_bytes: s.per_slice.peak.to_f64() * opts.dtype.bytes() as f64,
+                slices_at_once: opts.slices_at_once,
+            },
             order: s.per_slice.order,
         }
     }
