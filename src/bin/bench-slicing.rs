@@ -11,6 +11,7 @@ use sliceplan::cost::NodeSets;
 use sliceplan::generate::{brickwork, lattice};
 use sliceplan::network::{Dtype, Network};
 use sliceplan::search::{find_tree, Objective, SearchOptions};
+use sliceplan::slicing::greedy::GreedyRule;
 use sliceplan::slicing::{cover, find_slices, Point, SliceOptions};
 use sliceplan::tree::Tree;
 
@@ -28,12 +29,30 @@ struct Row {
 fn main() {
     let which: Vec<String> = std::env::args().skip(1).collect();
     let families: Vec<(&str, Box<dyn Fn() -> Network>)> = vec![
-        ("lattice 16x16", Box::new(|| lattice(&[16, 16], 2, false).unwrap())),
-        ("lattice 24x24", Box::new(|| lattice(&[24, 24], 2, false).unwrap())),
-        ("lattice 5x5x5", Box::new(|| lattice(&[5, 5, 5], 2, false).unwrap())),
-        ("circuit 6x6 d16", Box::new(|| brickwork(6, 6, 16, 1).unwrap())),
-        ("circuit 6x6 d16 s2", Box::new(|| brickwork(6, 6, 16, 2).unwrap())),
-        ("circuit 8x8 d12", Box::new(|| brickwork(8, 8, 12, 1).unwrap())),
+        (
+            "lattice 16x16",
+            Box::new(|| lattice(&[16, 16], 2, false).unwrap()),
+        ),
+        (
+            "lattice 24x24",
+            Box::new(|| lattice(&[24, 24], 2, false).unwrap()),
+        ),
+        (
+            "lattice 5x5x5",
+            Box::new(|| lattice(&[5, 5, 5], 2, false).unwrap()),
+        ),
+        (
+            "circuit 6x6 d16",
+            Box::new(|| brickwork(6, 6, 16, 1).unwrap()),
+        ),
+        (
+            "circuit 6x6 d16 s2",
+            Box::new(|| brickwork(6, 6, 16, 2).unwrap()),
+        ),
+        (
+            "circuit 8x8 d12",
+            Box::new(|| brickwork(8, 8, 12, 1).unwrap()),
+        ),
     ];
     println!(
         "{:<20} {:>9} {:<15} {:>12} {:>10} {:>8}",
@@ -47,7 +66,12 @@ fn main() {
         let t = Instant::now();
         let found = find_tree(&net, &SearchOptions::trials(64, 1)).expect("search runs");
         let search_s = t.elapsed().as_secs_f64();
-        eprintln!("{name}: {} tensors, tree 2^{:.2} ops, width {:.1} ({search_s:.1} s search)", net.num_tensors(), found.metrics.total_ops.log2, found.metrics.width);
+        eprintln!(
+            "{name}: {} tensors, tree 2^{:.2} ops, width {:.1} ({search_s:.1} s search)",
+            net.num_tensors(),
+            found.metrics.total_ops.log2,
+            found.metrics.width
+        );
         for reduction in [5u32, 10, 15] {
             for row in run_family(name, &net, &found.tree, reduction) {
                 println!(
@@ -55,8 +79,12 @@ fn main() {
                     row.family,
                     format!("2^{}", row.reduction),
                     row.method,
-                    row.slices_log2.map(|s| format!("{s:.1}")).unwrap_or_else(|| "-".into()),
-                    row.overhead.map(|o| format!("{o:.3}x")).unwrap_or_else(|| "no fit".into()),
+                    row.slices_log2
+                        .map(|s| format!("{s:.1}"))
+                        .unwrap_or_else(|| "-".into()),
+                    row.overhead
+                        .map(|o| format!("{o:.3}x"))
+                        .unwrap_or_else(|| "no fit".into()),
                     row.seconds
                 );
             }
@@ -84,31 +112,45 @@ fn run_family(family: &str, net: &Network, tree: &Tree, reduction: u32) -> Vec<R
             seconds,
         })
     };
-    // Greedy only.
+    // Greedy only, with each rule.
     let mut opts = SliceOptions::new(budget, DTYPE);
     opts.cover = false;
     opts.frontier_extra = 0;
+    opts.rule = GreedyRule::LeastOps;
+    let t = Instant::now();
+    let least = find_slices(net, tree, &opts, None, 0);
+    push(
+        "greedy least",
+        least.chosen.as_ref().map(|c| &c.0),
+        t.elapsed().as_secs_f64(),
+    );
+    opts.rule = GreedyRule::OpsPerHalving;
     let t = Instant::now();
     let greedy = find_slices(net, tree, &opts, None, 0);
-    push("greedy", greedy.chosen.as_ref().map(|c| &c.0), t.elapsed().as_secs_f64());
+    push(
+        "greedy",
+        greedy.chosen.as_ref().map(|c| &c.0),
+        t.elapsed().as_secs_f64(),
+    );
     // Greedy with tree re-planning.
-    let per_slice_elements = target / DTYPE.bytes() as f64;
-    let mut refit = |n: &Network, sliced: &[usize]| -> Option<Tree> {
+    let mut refit = |n: &Network, sliced: &[usize], max_width: f64| -> Option<Tree> {
         let mut reduced = n.clone();
         for &e in sliced {
             reduced.indices[e].dim = 1;
         }
         let opts = SearchOptions {
-            objective: Objective::OpsWithinWidth {
-                max_width: per_slice_elements.max(2.0).log2(),
-            },
+            objective: Objective::OpsWithinWidth { max_width },
             ..SearchOptions::trials(16, 2)
         };
         find_tree(&reduced, &opts).ok().map(|r| r.tree)
     };
     let t = Instant::now();
-    let co = find_slices(net, tree, &opts, Some(&mut refit), 2);
-    push("greedy+replan", co.chosen.as_ref().map(|c| &c.0), t.elapsed().as_secs_f64());
+    let co = find_slices(net, tree, &opts, Some(&mut refit), 24);
+    push(
+        "greedy+replan",
+        co.chosen.as_ref().map(|c| &c.0),
+        t.elapsed().as_secs_f64(),
+    );
     // The cover programme's own candidate on the searched tree.
     let mut copts = SliceOptions::new(budget, DTYPE);
     copts.cover_seconds = 10.0;

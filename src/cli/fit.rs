@@ -62,6 +62,9 @@ pub(super) fn run(args: FitArgs) -> Result<Outcome> {
     Ok(Outcome { stdout, code })
 }
 
+/// Tree re-plans allowed per target while slicing.
+const REPLANS: u32 = 16;
+
 /// Slices the found tree for every target and builds the fit report.
 pub(super) fn slice_and_report(
     net: &crate::network::Network,
@@ -70,15 +73,15 @@ pub(super) fn slice_and_report(
     dtype: Dtype,
 ) -> (FitReport, Vec<Advice>) {
     let base = SliceOptions::new(targets[0].budget_bytes, dtype);
-    let head = &targets[0];
-    let fixed = crate::cost::memory::inputs_bytes(net, dtype)
-        + crate::cost::memory::output_bytes(net, dtype);
-    let per_slice_elements =
-        (head.budget_bytes as f64 - fixed) / head.slices_at_once as f64 / dtype.bytes() as f64;
-    let mut refit = (per_slice_elements > 1.0)
-        .then(|| found.refit(per_slice_elements.log2()))
-        .flatten();
-    let advice = advise(net, &found.tree, &base, targets, refit.as_deref_mut(), 2);
+    let mut refit = found.refit(REPLANS * targets.len() as u32);
+    let advice = advise(
+        net,
+        &found.tree,
+        &base,
+        targets,
+        refit.as_deref_mut(),
+        REPLANS as usize,
+    );
     let report = FitReport::new(
         net,
         found.report(net, dtype),

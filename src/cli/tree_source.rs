@@ -53,22 +53,30 @@ impl Found {
     }
 
     /// A re-planner for co-optimisation: searches the network with the
-    /// sliced indices at dimension 1 for least total ops within `max_width`,
-    /// with a quarter of the original search's trials or time. `None` when
-    /// the tree came from a file.
-    pub fn refit(&self, max_width: f64) -> Option<Box<Refit<'static>>> {
+    /// sliced indices at dimension 1 for least total ops within a width cap,
+    /// each call with 1/`calls` of the original search's time (at least
+    /// 50 ms) or 1/8 of its trials (at least 4). `None` when the tree came
+    /// from a file.
+    pub fn refit(&self, calls: u32) -> Option<Box<Refit<'static>>> {
         self.search.as_ref()?;
         let mut opts = self.options.clone();
-        opts.objective = Objective::OpsWithinWidth { max_width };
-        opts.trials = opts.trials.map(|t| (t / 4).max(4));
-        opts.time = opts.time.map(|t| t / 4);
-        Some(Box::new(move |net: &Network, sliced: &[usize]| {
-            let mut reduced = net.clone();
-            for &e in sliced {
-                reduced.indices[e].dim = 1;
-            }
-            find_tree(&reduced, &opts).ok().map(|r| r.tree)
-        }))
+        opts.trials = opts.trials.map(|t| (t / 8).max(4));
+        opts.time = opts
+            .time
+            .map(|t| (t / calls.max(1)).max(std::time::Duration::from_millis(50)));
+        Some(Box::new(
+            move |net: &Network, sliced: &[usize], max_width: f64| {
+                let mut reduced = net.clone();
+                for &e in sliced {
+                    reduced.indices[e].dim = 1;
+                }
+                let opts = SearchOptions {
+                    objective: Objective::OpsWithinWidth { max_width },
+                    ..opts.clone()
+                };
+                find_tree(&reduced, &opts).ok().map(|r| r.tree)
+            },
+        ))
     }
 }
 
