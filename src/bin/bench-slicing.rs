@@ -17,6 +17,9 @@ use sliceplan::tree::Tree;
 
 const DTYPE: Dtype = Dtype::C64;
 
+/// Builds one benchmark network.
+type Family = Box<dyn Fn() -> Network>;
+
 struct Row {
     family: String,
     reduction: u32,
@@ -28,7 +31,7 @@ struct Row {
 
 fn main() {
     let which: Vec<String> = std::env::args().skip(1).collect();
-    let families: Vec<(&str, Box<dyn Fn() -> Network>)> = vec![
+    let families: Vec<(&str, Family)> = vec![
         (
             "lattice 16x16",
             Box::new(|| lattice(&[16, 16], 2, false).unwrap()),
