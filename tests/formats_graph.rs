@@ -6,7 +6,7 @@ mod formats_util;
 
 use sliceplan::formats::graph::{graph_network, parse_graph, Graph, GraphProblem};
 
-use formats_util::scalar;
+use formats_util::{kaufman, scalar};
 
 /// DIMACS text of the rows x cols grid graph (periodic: a torus).
 fn grid_dimacs(rows: usize, cols: usize, periodic: bool) -> String {
@@ -95,36 +95,6 @@ fn petersen_colourings() {
     assert_eq!(count(&g, &GraphProblem::Colorings { colors: 2 }), 0.0);
 }
 
-/// Kaufman (1949), exact partition function of the m x n periodic Ising
-/// model with coupling 1 and no field, at K = beta, in the form of Beale,
-/// Phys. Rev. Lett. 76, 78 (1996), eqs. (2)-(4) (transcribed from memory,
-/// checked below against a direct spin sum):
-/// Z = 1/2 (2 sinh 2K)^{mn/2} (Z1 + Z2 + Z3 + Z4),
-/// Z1 = prod_r 2 cosh(m g_{2r+1} / 2), Z2 = prod_r 2 sinh(m g_{2r+1} / 2),
-/// Z3 = prod_r 2 cosh(m g_{2r} / 2),   Z4 = prod_r 2 sinh(m g_{2r} / 2),
-/// r = 0..n-1, cosh g_l = cosh 2K coth 2K - cos(l pi / n), g_0 = 2K + ln tanh K.
-fn kaufman(m: usize, n: usize, k: f64) -> f64 {
-    let gamma = |l: usize| -> f64 {
-        if l == 0 {
-            2.0 * k + k.tanh().ln()
-        } else {
-            let c = (2.0 * k).cosh() / (2.0 * k).tanh()
-                - (l as f64 * std::f64::consts::PI / n as f64).cos();
-            c.acosh()
-        }
-    };
-    let half_m = m as f64 / 2.0;
-    let (mut z1, mut z2, mut z3, mut z4) = (1.0, 1.0, 1.0, 1.0);
-    for r in 0..n {
-        let (odd, even) = (gamma(2 * r + 1), gamma(2 * r));
-        z1 *= 2.0 * (half_m * odd).cosh();
-        z2 *= 2.0 * (half_m * odd).sinh();
-        z3 *= 2.0 * (half_m * even).cosh();
-        z4 *= 2.0 * (half_m * even).sinh();
-    }
-    0.5 * (2.0 * (2.0 * k).sinh()).powf((m * n) as f64 / 2.0) * (z1 + z2 + z3 + z4)
-}
-
 /// Direct sum over all spin states of a graph (couplings, field).
 fn brute_ising(g: &Graph, beta: f64, j: &[f64], h: f64) -> f64 {
     let n = g.num_vertices();
@@ -155,7 +125,8 @@ fn kaufman_formula_matches_a_direct_sum() {
 
 #[test]
 fn ising_torus_partition_functions() {
-    // Kaufman (1949), via `kaufman` above; relative 1e-10.
+    // Kaufman (1949), via `formats_util::kaufman` (checked above against a
+    // direct spin sum); relative 1e-10.
     for l in [4, 6] {
         let g = parse_graph(&grid_dimacs(l, l, true), "torus").unwrap();
         for beta in [0.1, 0.3, 0.4406868, 0.6, 1.0] {

@@ -96,53 +96,13 @@ impl NetArgs {
 
     /// The graph problem, with its parameters checked.
     pub fn problem(&self) -> Result<Option<GraphProblem>> {
-        let name = match &self.problem {
-            Some(n) => n.as_str(),
-            None => {
-                if self.colors.is_some()
-                    || self.beta.is_some()
-                    || self.coupling.is_some()
-                    || self.field.is_some()
-                {
-                    return Err(Error::usage(
-                        "--colors, --beta, --coupling and --field go with --problem",
-                    ));
-                }
-                return Ok(None);
-            }
-        };
-        let ising_only = self.beta.is_some() || self.coupling.is_some() || self.field.is_some();
-        let problem = match name {
-            "independent-sets" => GraphProblem::IndependentSets,
-            "perfect-matchings" => GraphProblem::PerfectMatchings,
-            "colorings" | "colourings" => GraphProblem::Colorings {
-                colors: self.colors.ok_or_else(|| {
-                    Error::usage("--problem colorings needs --colors Q (the number of colours)")
-                })?,
-            },
-            "ising" => GraphProblem::Ising {
-                beta: self.beta.ok_or_else(|| {
-                    Error::usage("--problem ising needs --beta (the inverse temperature)")
-                })?,
-                coupling: self.coupling,
-                field: self.field.unwrap_or(0.0),
-            },
-            other => {
-                return Err(Error::usage(format!(
-                    "--problem: unknown problem '{other}'; valid: {}",
-                    GraphProblem::NAMES
-                )))
-            }
-        };
-        if self.colors.is_some() && !matches!(problem, GraphProblem::Colorings { .. }) {
-            return Err(Error::usage("--colors goes with --problem colorings"));
-        }
-        if ising_only && !matches!(problem, GraphProblem::Ising { .. }) {
-            return Err(Error::usage(
-                "--beta, --coupling and --field go with --problem ising",
-            ));
-        }
-        Ok(Some(problem))
+        GraphProblem::from_flags(
+            self.problem.as_deref(),
+            self.colors,
+            self.beta,
+            self.coupling,
+            self.field,
+        )
     }
 
     /// The options for [`formats::load`].

@@ -12,6 +12,7 @@ pub mod einsum;
 pub mod graph;
 pub mod native;
 pub mod qasm;
+pub mod write;
 
 use std::path::Path;
 

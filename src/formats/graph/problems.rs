@@ -53,6 +53,58 @@ impl GraphProblem {
     /// The names accepted by `--problem`.
     pub const NAMES: &'static str = "independent-sets, colorings, perfect-matchings, ising";
 
+    /// The problem named `name` (one of [`GraphProblem::NAMES`]) with the
+    /// command-line parameters that go with it; `None` without a name. A
+    /// parameter given for another problem is a usage error.
+    pub fn from_flags(
+        name: Option<&str>,
+        colors: Option<u64>,
+        beta: Option<f64>,
+        coupling: Option<f64>,
+        field: Option<f64>,
+    ) -> Result<Option<GraphProblem>> {
+        let ising_only = beta.is_some() || coupling.is_some() || field.is_some();
+        let Some(name) = name else {
+            if colors.is_some() || ising_only {
+                return Err(Error::usage(
+                    "--colors, --beta, --coupling and --field go with --problem",
+                ));
+            }
+            return Ok(None);
+        };
+        let problem = match name {
+            "independent-sets" => GraphProblem::IndependentSets,
+            "perfect-matchings" => GraphProblem::PerfectMatchings,
+            "colorings" | "colourings" => GraphProblem::Colorings {
+                colors: colors.ok_or_else(|| {
+                    Error::usage("--problem colorings needs --colors Q (the number of colours)")
+                })?,
+            },
+            "ising" => GraphProblem::Ising {
+                beta: beta.ok_or_else(|| {
+                    Error::usage("--problem ising needs --beta (the inverse temperature)")
+                })?,
+                coupling,
+                field: field.unwrap_or(0.0),
+            },
+            other => {
+                return Err(Error::usage(format!(
+                    "--problem: unknown problem '{other}'; valid: {}",
+                    GraphProblem::NAMES
+                )))
+            }
+        };
+        if colors.is_some() && !matches!(problem, GraphProblem::Colorings { .. }) {
+            return Err(Error::usage("--colors goes with --problem colorings"));
+        }
+        if ising_only && !matches!(problem, GraphProblem::Ising { .. }) {
+            return Err(Error::usage(
+                "--beta, --coupling and --field go with --problem ising",
+            ));
+        }
+        Ok(Some(problem))
+    }
+
     /// A short description for network names.
     pub fn describe(&self) -> String {
         match self {
