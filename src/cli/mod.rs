@@ -5,6 +5,8 @@
 //! that validates them (cheaply, before any long work), calls the library and
 //! returns what to print on stdout with the exit code.
 
+mod generate;
+mod import;
 mod inspect;
 mod net_args;
 
@@ -48,12 +50,22 @@ pub enum Command {
     /// Summarise a network and price a contraction tree.
     #[command(after_help = inspect::EXAMPLES)]
     Inspect(inspect::InspectArgs),
+    /// Read a circuit, formula, graph or network and write it as a native
+    /// network file with its values.
+    #[command(after_help = import::EXAMPLES)]
+    Import(import::ImportArgs),
+    /// Write a demo or benchmark network (lattice, regular graph, brickwork
+    /// circuit, matrix chain) as a native network file.
+    #[command(after_help = generate::EXAMPLES)]
+    Generate(generate::GenerateArgs),
 }
 
 /// Runs a parsed command line.
 pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
+        Command::Import(args) => import::run(args),
+        Command::Generate(args) => generate::run(args),
     }
 }
 

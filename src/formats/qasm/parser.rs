@@ -97,10 +97,12 @@ impl<'a> Parser<'a> {
     fn statement(&mut self) -> Result<()> {
         let word = match self.cur.peek() {
             Tok::Ident(w) => w.clone(),
-            other => return Err(self.cur.error(format!(
+            other => {
+                return Err(self.cur.error(format!(
                 "expected a statement (qreg, creg, gate, a gate call, measure, barrier), found {}",
                 other.describe()
-            ))),
+            )))
+            }
         };
         match word.as_str() {
             "OPENQASM" => self.header(),
