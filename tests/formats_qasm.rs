@@ -398,6 +398,24 @@ fn malformed_programs_name_line_and_construct() {
 }
 
 #[test]
+fn deeply_nested_definitions_are_refused() {
+    let mut text =
+        String::from("OPENQASM 2.0;\ninclude \"qelib1.inc\";\nqreg q[1];\ngate g0 a { x a; }\n");
+    for k in 1..150 {
+        text.push_str(&format!("gate g{k} a {{ g{} a; }}\n", k - 1));
+    }
+    text.push_str("g149 q[0];\n");
+    let msg = parse_error(&text);
+    assert!(
+        msg.starts_with("bad.qasm:154: gate definitions nest more than 100 deep"),
+        "{msg}"
+    );
+    // 100 levels are fine: x applied once.
+    let ok = text.replace("g149 q[0];", "g99 q[0];");
+    assert_eq!(parse_qasm(&ok, "t", "t").unwrap().gates.len(), 1);
+}
+
+#[test]
 fn header_and_include_are_optional_for_u_and_cx() {
     // U and CX belong to the language (OpenQASM 2.0 paper, sec. 3).
     let c = parse_qasm("qreg q[2];\nU(pi,0,pi) q[0];\nCX q[0],q[1];\n", "t", "t").unwrap();

@@ -147,9 +147,10 @@ pub fn graph_network(
         })?,
         GraphProblem::Colorings { colors } => {
             let q = *colors;
-            if q == 0 || q > 1 << 12 {
+            // Each edge tensor holds q^2 values.
+            if q == 0 || q > 64 {
                 return Err(Error::usage(format!(
-                    "--colors {q}: give a number of colours from 1 to 4096"
+                    "--colors {q}: give a number of colours from 1 to 64"
                 )));
             }
             vertex_model(&mut b, g, q, &vec![1.0; q as usize], |x, y| {

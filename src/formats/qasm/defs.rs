@@ -10,7 +10,9 @@ use crate::error::{Error, Result};
 use crate::formats::circuit::Gate;
 
 /// The most gates a circuit may expand to (nested definitions can multiply).
-pub const MAX_GATES: usize = 20_000_000;
+pub const MAX_GATES: usize = 4_000_000;
+/// The deepest nesting of gate definitions expanded.
+pub const MAX_NESTING: usize = 100;
 
 /// One call inside a gate body.
 #[derive(Debug, Clone, PartialEq)]
@@ -234,15 +236,23 @@ impl GateTable {
     }
 
     /// Appends the built-in gates that `name(params) qubits` stands for.
-    /// `line` is the line of the outermost call, for errors.
+    /// `at` is the source, the line of the outermost call, and the nesting
+    /// depth so far (0 at top level), for errors.
     pub fn expand(
         &self,
         name: &str,
         params: &[f64],
         qubits: &[usize],
         out: &mut Vec<Gate>,
-        at: (&str, usize),
+        at: (&str, usize, usize),
     ) -> Result<()> {
+        if at.2 > MAX_NESTING {
+            return Err(Error::at_line(
+                at.0,
+                at.1,
+                format!("gate definitions nest more than {MAX_NESTING} deep; flatten them"),
+            ));
+        }
         if out.len() >= MAX_GATES {
             return Err(Error::at_line(
                 at.0,
@@ -265,7 +275,7 @@ impl GateTable {
                     values.push(v);
                 }
                 let q: Vec<usize> = call.args.iter().map(|&k| qubits[k]).collect();
-                self.expand(&call.name, &values, &q, out, at)?;
+                self.expand(&call.name, &values, &q, out, (at.0, at.1, at.2 + 1))?;
             }
             return Ok(());
         }

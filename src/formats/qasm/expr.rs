@@ -87,9 +87,18 @@ impl Expr {
     }
 }
 
+/// The most operands, operators and parentheses one expression may hold;
+/// it bounds the recursion of parsing and evaluation.
+pub const MAX_EXPR_PARTS: usize = 256;
+
 /// Parses one expression; identifiers other than `pi` and the functions must
 /// be among `params` (the enclosing gate's parameter names).
 pub fn parse_expr(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
+    cur.expr_budget = 0;
+    expr(cur, params)
+}
+
+fn expr(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
     let mut lhs = term(cur, params)?;
     loop {
         let op = match cur.peek() {
@@ -118,6 +127,12 @@ fn term(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
 }
 
 fn unary(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
+    cur.expr_budget += 1;
+    if cur.expr_budget > MAX_EXPR_PARTS {
+        return Err(cur.error(format!(
+            "the parameter expression has more than {MAX_EXPR_PARTS} parts; simplify it"
+        )));
+    }
     if cur.eat("-") {
         return Ok(Expr::Neg(Box::new(unary(cur, params)?)));
     }
@@ -146,7 +161,7 @@ fn atom(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
         }
         Tok::Sym("(") => {
             cur.bump();
-            let e = parse_expr(cur, params)?;
+            let e = expr(cur, params)?;
             cur.expect(")", "to close the parenthesis")?;
             Ok(e)
         }
@@ -158,7 +173,7 @@ fn atom(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
             }
             if let Some(f) = Func::from_name(&name) {
                 cur.expect("(", &format!("after the function '{name}'"))?;
-                let e = parse_expr(cur, params)?;
+                let e = expr(cur, params)?;
                 cur.expect(")", &format!("to close '{name}('"))?;
                 return Ok(Expr::Call(f, Box::new(e)));
             }
@@ -215,6 +230,20 @@ mod tests {
             value("(lambda-phi)/2", &["phi", "lambda"], &[1.0, 3.0]),
             1.0
         );
+    }
+
+    #[test]
+    fn huge_expressions_are_refused_not_overflowed() {
+        for text in [
+            "(".repeat(100_000) + "1",
+            "1+".repeat(100_000) + "1",
+            "-".repeat(100_000) + "1",
+        ] {
+            let toks = tokenize(&text, "f.qasm").unwrap();
+            let mut cur = Cursor::new(&toks, "f.qasm");
+            let e = parse_expr(&mut cur, &[]).unwrap_err().to_string();
+            assert!(e.contains("more than 256 parts"), "{e}");
+        }
     }
 
     #[test]

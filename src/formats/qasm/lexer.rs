@@ -198,6 +198,8 @@ pub struct Cursor<'a> {
     pos: usize,
     /// The file name used in errors.
     pub source: &'a str,
+    /// Work done on the expression being parsed (bounds its size and depth).
+    pub expr_budget: usize,
 }
 
 impl<'a> Cursor<'a> {
@@ -207,17 +209,13 @@ impl<'a> Cursor<'a> {
             toks,
             pos: 0,
             source,
+            expr_budget: 0,
         }
     }
 
     /// The current token.
     pub fn peek(&self) -> &'a Tok {
         &self.toks[self.pos].tok
-    }
-
-    /// The token after the current one.
-    pub fn peek2(&self) -> &'a Tok {
-        &self.toks[(self.pos + 1).min(self.toks.len() - 1)].tok
     }
 
     /// The line of the current token.

@@ -360,7 +360,7 @@ impl<'a> Parser<'a> {
                 &params,
                 &qubits,
                 &mut self.gates,
-                (self.cur.source, line),
+                (self.cur.source, line, 0),
             )?;
         }
         Ok(())
