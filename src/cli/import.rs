@@ -12,10 +12,11 @@ use crate::formats::write::{write_native, WriteOptions, Written, DEFAULT_INLINE_
 use crate::network::Network;
 
 pub(super) const EXAMPLES: &str = "Examples:
-  sliceplan import demo-data/circuits/ghz-teleport.qasm --bitstring 10110 -o ghz.toml
-  sliceplan import demo-data/circuits/ghz-teleport.qasm --open all -o ghz-state.toml
+  sliceplan import demo-data/circuits/ghz-teleport.qasm --bitstring 011101 -o ghz.toml
+  sliceplan import demo-data/circuits/phase-kickback.qasm --open all -o qpe-state.toml
   sliceplan import demo-data/formulas/seating.cnf -o seating.toml
-  sliceplan import demo-data/graphs/ring-of-cliques.col --problem colorings --colors 4 -o col.toml";
+  sliceplan import demo-data/graphs/ring-of-cliques.col --problem colorings --colors 4 -o col.toml
+  sliceplan import demo-data/graphs/mixed-ladder.edges --problem ising --beta 0.5 -o ladder.toml";
 
 /// Arguments of `import`.
 #[derive(Debug, Args)]

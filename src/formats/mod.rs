@@ -1,5 +1,5 @@
 //! Reading networks from files and equations, one file per input format,
-//! and writing the native format back ([`write`]).
+//! and writing the native format back ([`mod@write`]).
 //!
 //! [`load`] picks the reader from the file's extension (or an explicit
 //! format name) so every command accepts every input kind: native TOML
