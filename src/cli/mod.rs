@@ -7,6 +7,8 @@
 
 mod budget_args;
 mod fit;
+mod generate;
+mod import;
 mod inspect;
 mod net_args;
 mod plan;
@@ -56,24 +58,34 @@ pub enum Command {
     /// Summarise a network and price a contraction tree.
     #[command(after_help = inspect::EXAMPLES)]
     Inspect(inspect::InspectArgs),
+    /// Search for a contraction tree; with a budget, slice it and write a plan.
+    #[command(after_help = plan::EXAMPLES)]
+    Plan(plan::PlanArgs),
     /// Will it fit the budget? With how many slices, at what overhead?
     #[command(after_help = fit::EXAMPLES)]
     Fit(fit::FitArgs),
     /// Re-render a plan (text, JSON, CSV, SVG, steps) without searching.
     #[command(after_help = report::EXAMPLES)]
     Report(report::ReportArgs),
-    /// Search for a good contraction tree (time- or trial-bounded).
-    #[command(after_help = plan::EXAMPLES)]
-    Plan(plan::PlanArgs),
+    /// Read a circuit, formula, graph or network and write it as a native
+    /// network file with its values.
+    #[command(after_help = import::EXAMPLES)]
+    Import(import::ImportArgs),
+    /// Write a demo or benchmark network (lattice, regular graph, brickwork
+    /// circuit, matrix chain) as a native network file.
+    #[command(after_help = generate::EXAMPLES)]
+    Generate(generate::GenerateArgs),
 }
 
 /// Runs a parsed command line.
 pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
+        Command::Plan(args) => plan::run(args),
         Command::Fit(args) => fit::run(args),
         Command::Report(args) => report::run(args),
-        Command::Plan(args) => plan::run(args),
+        Command::Import(args) => import::run(args),
+        Command::Generate(args) => generate::run(args),
     }
 }
 
