@@ -243,25 +243,24 @@ fn plan_without_budget_writes_a_tree_that_inspect_reads() {
 }
 
 #[test]
-fn plans_need_a_native_network_file() {
+fn plans_of_non_native_inputs_write_the_network_beside_them() {
     let dir = tempfile::tempdir().unwrap();
-    let (code, _, err) = sliceplan(
-        dir.path(),
-        &[
-            "plan",
-            "--einsum",
-            "ab,bc->ac",
-            "--dim",
-            "4",
-            "--budget",
-            "1KiB",
-            "-o",
-            "x.plan.toml",
-        ],
-    );
-    assert_eq!(code, Some(2));
-    assert!(
-        err.contains("a plan file must refer to a network file"),
-        "{err}"
-    );
+    let args = [
+        "plan",
+        "--einsum",
+        "ab,bc->ac",
+        "--dim",
+        "4",
+        "--budget",
+        "1KiB",
+        "--trials",
+        "2",
+        "-o",
+        "x.plan.toml",
+    ];
+    let (code, out, err) = sliceplan(dir.path(), &args);
+    assert_eq!(code, Some(0), "{out}{err}");
+    assert!(out.contains("network written to x.network.toml"), "{out}");
+    let (code, _, err) = sliceplan(dir.path(), &["report", "x.plan.toml"]);
+    assert_eq!(code, Some(0), "{err}");
 }

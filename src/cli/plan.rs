@@ -81,11 +81,6 @@ impl PlanArgs {
 
 pub(super) fn run(args: PlanArgs) -> Result<Outcome> {
     let opts = args.validate()?;
-    if opts.slicing {
-        if let Some(out) = &args.output {
-            network_path_for_plan(&args.net, out)?;
-        }
-    }
     let net = args.net.load()?;
     let dtype = args.budget.dtype_for(&opts.budget, &net);
     let targets = if opts.slicing {
@@ -105,19 +100,19 @@ pub(super) fn run(args: PlanArgs) -> Result<Outcome> {
         report.to_text()
     };
     if let Some(out) = &args.output {
-        let network_path = network_path_for_plan(&args.net, out)?;
-        match make_plan(
-            &net,
-            &network_path,
-            &found.source,
-            &advice[0],
-            dtype,
-            found.seed(),
-        ) {
+        match make_plan(&net, "", &found.source, &advice[0], dtype, found.seed()) {
             Some(mut plan) => {
+                let (network_path, written) = network_path_for_plan(&args.net, &net, out)?;
+                plan.network_path = network_path;
                 plan.lower_bound_width = Some(found.lower_bound.width);
                 write_plan(out, &plan)?;
                 if !args.json {
+                    if let Some(w) = written {
+                        stdout.push_str(&format!(
+                            "\nnetwork written to {} (the plan refers to it)",
+                            w.display()
+                        ));
+                    }
                     stdout.push_str(&format!(
                         "\nplan written to {} (fingerprint {})\n",
                         out.display(),
@@ -163,34 +158,48 @@ fn tree_only(
     }))
 }
 
-/// The network path a plan at `plan_path` records: relative to the plan's
-/// directory when both are relative. Plans need a network file that other
-/// commands can read back on their own (a native file).
-fn network_path_for_plan(net: &NetArgs, plan_path: &Path) -> Result<String> {
-    let path = net.net.as_ref().ok_or_else(|| {
-        Error::usage("a plan file must refer to a network file; write the einsum network to a file first (see `sliceplan import`)")
-    })?;
-    if !matches!(
-        crate::formats::Format::from_path(path),
-        Some(crate::formats::Format::Native)
-    ) || net.format.is_some()
-    {
-        return Err(Error::usage(format!(
-            "{}: a plan refers to a native network file so that `run` reads exactly this network; convert it first with `sliceplan import {} -o NET.toml`",
-            path.display(),
-            path.display()
-        )));
-    }
+/// The network path a plan at `plan_path` records, relative to the plan's
+/// directory. Plans refer to a native network file so that `run` reads
+/// exactly this network: a native input is referred to as it is; any other
+/// input (circuit, formula, graph, einsum) is first written beside the plan
+/// as `<plan name>.network.toml` with its values, and that path is returned
+/// too.
+fn network_path_for_plan(
+    args: &NetArgs,
+    net: &Network,
+    plan_path: &Path,
+) -> Result<(String, Option<PathBuf>)> {
+    let native = args.net.as_ref().filter(|p| {
+        args.format.is_none()
+            && matches!(
+                crate::formats::Format::from_path(p),
+                Some(crate::formats::Format::Native)
+            )
+    });
+    let (path, written) = match native {
+        Some(p) => (p.clone(), None),
+        None => {
+            let name = plan_path
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default();
+            let stem = name.trim_end_matches(".toml").trim_end_matches(".plan");
+            let target = plan_path.with_file_name(format!("{stem}.network.toml"));
+            crate::formats::write::write_native(net, &target, &Default::default())?;
+            (target.clone(), Some(target))
+        }
+    };
     let abs = |p: &Path| std::path::absolute(p).map_err(|e| Error::read(p, e));
-    let net_abs = abs(path)?;
+    let net_abs = abs(&path)?;
     let plan_dir = abs(plan_path)?
         .parent()
         .map(Path::to_path_buf)
         .unwrap_or_default();
-    Ok(match net_abs.strip_prefix(&plan_dir) {
-        Ok(rel) => rel.display().to_string(),
-        Err(_) => relative_to(&net_abs, &plan_dir).display().to_string(),
-    })
+    let rel = match net_abs.strip_prefix(&plan_dir) {
+        Ok(rel) => rel.to_path_buf(),
+        Err(_) => relative_to(&net_abs, &plan_dir),
+    };
+    Ok((rel.display().to_string(), written))
 }
 
 /// `target` relative to `base` (both absolute), with `..` where needed.
