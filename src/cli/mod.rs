@@ -8,6 +8,7 @@
 mod budget_args;
 mod fit;
 mod inspect;
+mod jobs;
 mod net_args;
 mod report;
 mod tree_source;
@@ -58,6 +59,9 @@ pub enum Command {
     /// Re-render a plan (text, JSON, CSV, SVG, steps) without searching.
     #[command(after_help = report::EXAMPLES)]
     Report(report::ReportArgs),
+    /// Write a plan's chunks as a Slurm job array; --status lists what to resubmit.
+    #[command(after_help = jobs::EXAMPLES)]
+    Jobs(jobs::JobsArgs),
 }
 
 /// Runs a parsed command line.
@@ -66,6 +70,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Inspect(args) => inspect::run(args),
         Command::Fit(args) => fit::run(args),
         Command::Report(args) => report::run(args),
+        Command::Jobs(args) => jobs::run(args),
     }
 }
 

@@ -13,7 +13,7 @@ use crate::error::{Error, Result};
 /// ```
 /// use sliceplan::jobs::array::array_spec;
 /// assert_eq!(array_spec(&[42, 3, 17], None), "3,17,42");
-/// assert_eq!(array_spec(&[0, 1, 2, 3, 9, 10], Some(2)), "0-3,9,10%2");
+/// assert_eq!(array_spec(&[0, 1, 2, 3, 9, 10], Some(2)), "0-3,9-10%2");
 /// ```
 pub fn array_spec(ids: &[u64], max_running: Option<u64>) -> String {
     let mut ids = ids.to_vec();
@@ -26,10 +26,10 @@ pub fn array_spec(ids: &[u64], max_running: Option<u64>) -> String {
         while end + 1 < ids.len() && ids[end + 1] == ids[end] + 1 {
             end += 1;
         }
-        if end - k >= 2 {
+        if end > k {
             parts.push(format!("{}-{}", ids[k], ids[end]));
         } else {
-            parts.extend(ids[k..=end].iter().map(u64::to_string));
+            parts.push(ids[k].to_string());
         }
         k = end + 1;
     }

@@ -202,19 +202,7 @@ pub fn write_jobs(
         let d = dir.join(sub);
         std::fs::create_dir_all(&d).map_err(|e| Error::write(&d, e))?;
     }
-    let array = if chunks == 1 {
-        "0".to_string()
-    } else {
-        format!("0-{}", chunks - 1)
-    };
-    let array = match opts.max_running {
-        Some(m) => format!("{array}%{m}"),
-        None => array,
-    };
-    debug_assert_eq!(
-        array,
-        array_spec(&(0..chunks).collect::<Vec<_>>(), opts.max_running)
-    );
+    let array = array_spec(&(0..chunks).collect::<Vec<_>>(), opts.max_running);
     let mut files = vec![write_manifest(&dir, &manifest)?];
     let submit = sbatch_script(&manifest, &paths, &array, "all chunks", SUBMIT_FILE);
     files.push(write_script(&dir.join(SUBMIT_FILE), &submit)?);
