@@ -234,7 +234,7 @@ fn the_array_script_runs_under_the_stand_in_scheduler_from_a_nasty_path() {
         );
         let log = std::fs::read_to_string(dir.join(format!("logs/chunk-{i}.out"))).unwrap();
         assert!(
-            log.contains(&format!("== chunk {i} of 4: job 1 on")),
+            log.contains(&format!("== chunk {i} of 4: job 1_{i} on")),
             "{log}"
         );
         assert!(

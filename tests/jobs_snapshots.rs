@@ -87,7 +87,7 @@ chunks=8
 threads=1
 chunk=${SLURM_ARRAY_TASK_ID:?this script is a Slurm job array: submit it with sbatch}
 rm -f "$logs/chunk-$chunk.exit"
-echo "== chunk $chunk of $chunks: job ${SLURM_JOB_ID:-?} on $(hostname) at $(date -u +%Y-%m-%dT%H:%M:%SZ)"
+echo "== chunk $chunk of $chunks: job ${SLURM_ARRAY_JOB_ID:-?}_$chunk on $(hostname) at $(date -u +%Y-%m-%dT%H:%M:%SZ)"
 status=0
 "$bin" run "$plan" --chunk "$chunk" --of "$chunks" --threads "$threads" --out "$partials" || status=$?
 printf '%s\n' "$status" >"$logs/chunk-$chunk.exit.tmp" && mv -f "$logs/chunk-$chunk.exit.tmp" "$logs/chunk-$chunk.exit"

@@ -132,7 +132,8 @@ pub struct Submission {
 
 /// A deterministic scheduler for tests: job ids count up from 1; with
 /// `run_tasks`, each submission runs its array tasks one after another with
-/// bash, `SLURM_ARRAY_TASK_ID` and `SLURM_JOB_ID` set, in the `--chdir`
+/// bash, `SLURM_ARRAY_TASK_ID`, `SLURM_ARRAY_JOB_ID` and `SLURM_JOB_ID` set
+/// (every task has its own job id, as in Slurm), in the `--chdir`
 /// directory, appending to the `--output` and `--error` files.
 #[derive(Debug, Clone, Default)]
 pub struct StandIn {
@@ -158,7 +159,8 @@ impl Scheduler for StandIn {
                 let mut cmd = Command::new("bash");
                 cmd.arg(script)
                     .env("SLURM_ARRAY_TASK_ID", task.to_string())
-                    .env("SLURM_JOB_ID", &job);
+                    .env("SLURM_ARRAY_JOB_ID", &job)
+                    .env("SLURM_JOB_ID", format!("{job}{task:03}"));
                 if let Some(d) = option(&opts, "chdir") {
                     cmd.current_dir(d);
                 }

@@ -107,7 +107,7 @@ pub fn sbatch_script(m: &Manifest, p: &ScriptPaths, array: &str, what: &str, fil
     s.push_str(&format!(
         "chunk=${{SLURM_ARRAY_TASK_ID:?this script is a Slurm job array: submit it with sbatch}}\n\
          rm -f \"$logs/chunk-$chunk.exit\"\n\
-         echo \"== chunk $chunk of $chunks: job ${{SLURM_JOB_ID:-?}} on $(hostname) at {STAMP}\"\n\
+         echo \"== chunk $chunk of $chunks: job ${{SLURM_ARRAY_JOB_ID:-?}}_$chunk on $(hostname) at {STAMP}\"\n\
          status=0\n\
          {RUN_CHUNK} || status=$?\n\
          printf '%s\\n' \"$status\" >\"$logs/chunk-$chunk.exit.tmp\" && mv -f \"$logs/chunk-$chunk.exit.tmp\" \"$logs/chunk-$chunk.exit\"\n\
