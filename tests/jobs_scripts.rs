@@ -232,6 +232,7 @@ fn the_array_script_runs_under_the_stand_in_scheduler_from_a_nasty_path() {
             recorded_args(&bin_dir, i),
             expected_args(&plan, &dir, i, 4, 2)
         );
+        assert_eq!(recorded_cwd(&bin_dir, i), dir.display().to_string());
         let log = std::fs::read_to_string(dir.join(format!("logs/chunk-{i}.out"))).unwrap();
         assert!(
             log.contains(&format!("== chunk {i} of 4: job 1_{i} on")),

@@ -135,6 +135,8 @@ fn stand_in_array_on_slurm_from_a_nasty_path() {
         let args = recorded_args(&bin_dir, i);
         assert_eq!(args[1], plan.display().to_string(), "chunk {i}: {args:?}");
         assert_eq!(args[3], i.to_string());
+        // --chdir is taken literally (no % patterns there).
+        assert_eq!(recorded_cwd(&bin_dir, i), dir.display().to_string());
         let log = std::fs::read_to_string(dir.join(format!("logs/chunk-{i}.out"))).unwrap();
         assert!(
             log.contains(&format!("== chunk {i} of 8: job {job}_{i} on")),

@@ -140,7 +140,8 @@ pub fn write_grid_plan(dir: &Path, n: usize, k: usize, seconds_per_slice: Option
 
 /// A stand-in for the `sliceplan` binary in `dir`: for `run ... --chunk I
 /// --of N ... --out D` it records its arguments, one per line, in
-/// `dir/calls/chunk-I.args`, and writes `D/chunk-I-of-N.partial`; when the
+/// `dir/calls/chunk-I.args` and its working directory in
+/// `dir/calls/chunk-I.cwd`, and writes `D/chunk-I-of-N.partial`; when the
 /// file `dir/fail-I` exists it prints an error and exits 3 instead.
 pub fn stand_in_binary(dir: &Path) -> PathBuf {
     std::fs::create_dir_all(dir.join("calls")).unwrap();
@@ -160,6 +161,7 @@ while (($# > 0)); do
     shift
 done
 printf '%s\n' "${{args[@]}}" >"$here/calls/chunk-$chunk.args"
+pwd >"$here/calls/chunk-$chunk.cwd"
 if [[ -e $here/fail-$chunk ]]; then
     echo "stand-in: chunk $chunk fails on purpose" >&2
     exit 3
@@ -182,6 +184,14 @@ pub fn recorded_args(stand_in_dir: &Path, i: u64) -> Vec<String> {
         .lines()
         .map(String::from)
         .collect()
+}
+
+/// The working directory the stand-in ran chunk `i` in.
+pub fn recorded_cwd(stand_in_dir: &Path, i: u64) -> String {
+    std::fs::read_to_string(stand_in_dir.join(format!("calls/chunk-{i}.cwd")))
+        .unwrap_or_default()
+        .trim_end_matches('\n')
+        .to_string()
 }
 
 /// Runs the real binary; returns (exit code, stdout, stderr).
