@@ -221,3 +221,58 @@ pub fn expand_pattern(pattern: &str, job: &str, task: u64) -> String {
     }
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A scheduler whose job never leaves the queue.
+    struct Stuck(usize);
+
+    impl Scheduler for Stuck {
+        fn submit(&mut self, _script: &Path) -> Result<String> {
+            Ok("7".into())
+        }
+        fn active(&mut self, _job: &str) -> Result<bool> {
+            self.0 += 1;
+            Ok(true)
+        }
+    }
+
+    #[test]
+    fn waiting_is_bounded() {
+        let mut s = Stuck(0);
+        let e = wait_until_done(&mut s, "7", Duration::ZERO, Duration::ZERO).unwrap_err();
+        assert_eq!(e.exit_code(), 1);
+        assert!(
+            e.to_string().contains("job 7 is still queued or running"),
+            "{e}"
+        );
+        assert_eq!(s.0, 1);
+    }
+
+    #[test]
+    fn the_stand_in_records_without_running() {
+        let dir = tempfile::tempdir().unwrap();
+        let script = dir.path().join("a.sbatch");
+        std::fs::write(&script, "#!/bin/bash\n#SBATCH --array=3,17,42%2\nexit 9\n").unwrap();
+        let mut s = StandIn::default();
+        assert_eq!(s.submit(&script).unwrap(), "1");
+        assert_eq!(s.submit(&script).unwrap(), "2");
+        assert_eq!(s.submissions[1].array, vec![3, 17, 42]);
+        assert_eq!(s.submissions[1].max_running, Some(2));
+        assert!(s.submissions[1].exit_codes.is_empty());
+        std::fs::write(&script, "#!/bin/bash\necho no array\n").unwrap();
+        assert!(s.submit(&script).is_err());
+    }
+
+    #[test]
+    fn patterns_expand_like_slurm() {
+        // Slurm's sbatch manual, "filename pattern": %a task, %A job, %% percent.
+        assert_eq!(
+            expand_pattern("/r/100%%/c-%a-%A.out", "12", 3),
+            "/r/100%/c-3-12.out"
+        );
+        assert_eq!(expand_pattern("x%", "1", 0), "x%");
+    }
+}
