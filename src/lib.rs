@@ -20,6 +20,7 @@ pub mod npy;
 pub mod num;
 pub mod plan;
 pub mod report;
+pub mod search;
 pub mod slicing;
 pub mod tree;
 

@@ -15,7 +15,7 @@ use crate::plan::advise::Target;
 #[derive(Debug, Clone, Args)]
 pub struct BudgetArgs {
     /// Memory one process may use, e.g. 64GiB or 500GB (KiB/MiB/GiB/TiB = powers of 1024, KB/MB/GB/TB = powers of 1000).
-    #[arg(long, value_name = "SIZE", required_unless_present = "machine")]
+    #[arg(long, value_name = "SIZE")]
     pub budget: Option<String>,
 
     /// Machine profile (TOML); repeat to compare node types. Without --budget, the first machine's usable memory is the budget.

@@ -5,9 +5,11 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::budget_args::BudgetArgs;
+use super::tree_source::{Found, TreeArgs};
 use super::{to_json, NetArgs, Outcome};
 use crate::error::Result;
-use crate::plan::advise::advise;
+use crate::network::Dtype;
+use crate::plan::advise::{advise, Advice, Target};
 use crate::report::fit::FitReport;
 use crate::slicing::SliceOptions;
 
@@ -29,7 +31,7 @@ pub struct FitArgs {
     budget: BudgetArgs,
 
     #[command(flatten)]
-    search: super::tree_source::TreeArgs,
+    search: TreeArgs,
 
     /// Print one JSON object on stdout instead of text.
     #[arg(long)]
@@ -39,28 +41,17 @@ pub struct FitArgs {
 pub(super) fn run(args: FitArgs) -> Result<Outcome> {
     args.net.validate()?;
     let checked = args.budget.check()?;
-    args.search.check()?;
+    if checked.budget.is_none() && args.budget.machine.is_empty() {
+        return Err(crate::Error::usage(
+            "give --budget SIZE or --machine FILE (or both)",
+        ));
+    }
+    let search = args.search.check()?;
     let net = args.net.load()?;
     let targets = args.budget.targets(&checked)?;
     let dtype = args.budget.dtype_for(&checked, &net);
-    let found = args.search.find(&net, dtype)?;
-    let base = SliceOptions::new(targets[0].budget_bytes, dtype);
-    let mut refit = found.refit(&net);
-    let advice = advise(
-        &net,
-        &found.tree,
-        &base,
-        &targets,
-        refit.as_mut().map(|r| r.as_mut() as _),
-        2,
-    );
-    let report = FitReport::new(
-        &net,
-        found.report(&net, dtype),
-        found.lower_bound,
-        dtype,
-        &advice,
-    );
+    let found = args.search.find(&net, &search)?;
+    let (report, advice) = slice_and_report(&net, &found, &targets, dtype);
     write_extras(&report, &args.budget.csv, &args.budget.svg, &advice[0])?;
     let code = if report.fits { 0 } else { 1 };
     let stdout = if args.json {
@@ -69,6 +60,37 @@ pub(super) fn run(args: FitArgs) -> Result<Outcome> {
         report.to_text()
     };
     Ok(Outcome { stdout, code })
+}
+
+/// Tree re-plans allowed per target while slicing.
+const REPLANS: u32 = 16;
+
+/// Slices the found tree for every target and builds the fit report.
+pub(super) fn slice_and_report(
+    net: &crate::network::Network,
+    found: &Found,
+    targets: &[Target],
+    dtype: Dtype,
+) -> (FitReport, Vec<Advice>) {
+    let base = SliceOptions::new(targets[0].budget_bytes, dtype);
+    let mut refit = found.refit(REPLANS * targets.len() as u32);
+    let advice = advise(
+        net,
+        &found.tree,
+        &base,
+        targets,
+        refit.as_deref_mut(),
+        REPLANS as usize,
+    );
+    let report = FitReport::new(
+        net,
+        found.report(net, dtype),
+        Some(found.lower_bound),
+        found.search.clone(),
+        dtype,
+        &advice,
+    );
+    (report, advice)
 }
 
 /// Writes the CSV and SVG frontier files when asked (atomically).

@@ -68,10 +68,14 @@ pub(super) fn run(args: ReportArgs) -> Result<Outcome> {
         plan.predicted.tree_source.clone()
     };
     let tree = TreeReport::new(source, &metrics, plan.dtype);
+    let lower_bound = plan
+        .lower_bound_width
+        .map(|_| crate::search::width_lower_bound(&net));
     let report = FitReport::new(
         &net,
         tree,
-        plan.lower_bound_width,
+        lower_bound,
+        None,
         plan.dtype,
         std::slice::from_ref(&advice),
     );

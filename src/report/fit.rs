@@ -4,11 +4,13 @@
 use serde::Serialize;
 
 use super::inspect::TreeReport;
+use super::plan::SearchReport;
 use super::{bytes_human, group_decimal, log2_str, Table};
 use crate::cost::machine::{Estimate, ESTIMATE_METHOD};
 use crate::cost::memory::MemoryNeed;
 use crate::network::{Dtype, Network, Summary};
 use crate::plan::advise::Advice;
+use crate::search::WidthBound;
 use crate::slicing::{CoverReport, FrontierRow, Origin};
 
 /// The chosen slice set as it appears in JSON (`slicing.*`).
@@ -68,13 +70,6 @@ pub struct MachineRow {
     pub estimate: Option<Estimate>,
 }
 
-/// The proven lower bound on width.
-#[derive(Debug, Clone, Copy, Serialize)]
-pub struct LowerBound {
-    /// log2 elements that some intermediate of every tree must reach.
-    pub width: f64,
-}
-
 /// Everything `fit` and `plan` print.
 #[derive(Debug, Clone, Serialize)]
 pub struct FitReport {
@@ -84,7 +79,10 @@ pub struct FitReport {
     pub tree: TreeReport,
     /// The proven lower bound on width, when computed.
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub lower_bound: Option<LowerBound>,
+    pub lower_bound: Option<WidthBound>,
+    /// How the tree search went, when there was one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub search: Option<SearchReport>,
     /// Bytes one process may use.
     pub budget_bytes: u64,
     /// Element type.
@@ -152,7 +150,8 @@ impl FitReport {
     pub fn new(
         net: &Network,
         tree: TreeReport,
-        lower_bound: Option<f64>,
+        lower_bound: Option<WidthBound>,
+        search: Option<SearchReport>,
         dtype: Dtype,
         advice: &[Advice],
     ) -> FitReport {
@@ -198,7 +197,8 @@ impl FitReport {
         FitReport {
             network: Summary::of(net),
             tree,
-            lower_bound: lower_bound.map(|width| LowerBound { width }),
+            lower_bound,
+            search,
             budget_bytes: budget,
             dtype,
             bytes_per_element: dtype.bytes(),
@@ -295,6 +295,17 @@ impl FitReport {
         }
         if let Some(e) = &self.estimate {
             out.push_str(&estimate_line(e));
+        }
+        if let Some(s) = &self.search {
+            out.push_str(&format!(
+                "search    {} trials in {:.2} s (best by {} at {:.2} s), seed {}{}\n",
+                s.trials,
+                s.seconds,
+                s.finder,
+                s.seconds_to_best,
+                s.seed,
+                if s.interrupted { ", interrupted" } else { "" }
+            ));
         }
         if !self.frontier.is_empty() {
             out.push_str("\nfrontier (best found for each number of slices)\n");

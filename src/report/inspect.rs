@@ -217,7 +217,7 @@ impl InspectReport {
     }
 }
 
-fn tree_lines(t: &TreeReport) -> String {
+pub(crate) fn tree_lines(t: &TreeReport) -> String {
     format!(
         "  total ops   {} (2^{}); real flops = {} x ops for {}\n  width       {}  (largest intermediate, log2 elements)\n  op width    {}  (largest single contraction, log2 ops)\n  peak        {} elements = {} bytes as {} (best traversal)\n  height      {}  (contraction rounds with unlimited parallelism)\n",
         group_decimal(&t.total_ops),

@@ -3,6 +3,7 @@
 pub mod chart;
 pub mod fit;
 pub mod inspect;
+pub mod plan;
 pub mod steps;
 mod table;
 

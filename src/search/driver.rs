@@ -1,0 +1,431 @@
+//! The trial driver: run many randomised finder trials in parallel, keep the
+//! best tree, refine it, and report progress.
+//!
+//! # What it computes
+//!
+//! [`find_tree`] searches for a tree minimising an [`Objective`] within a
+//! budget of trials or time. Trial 0 is the exact finder when the network
+//! (after simplification) is small enough; every other trial draws a finder
+//! (greedy or partitioning) and its parameters, optionally refines its tree,
+//! and is scored. The best tree then gets a final refinement and is priced
+//! with the cost model on the network's own tensors.
+//!
+//! # Determinism
+//!
+//! Trial i draws everything from a ChaCha8 generator seeded from
+//! (seed, i), and the best is the least (score, trial number). So with a
+//! trial budget (and no time limit) the result is the same tree whatever the
+//! number of threads and whichever thread ran which trial.
+//!
+//! # Complexity
+//!
+//! The sum of the trials' costs (see each finder), spread over the threads.
+//!
+//! # Example
+//!
+//! ```
+//! use sliceplan::formats::einsum::network_from_einsum;
+//! use sliceplan::search::{find_tree, SearchOptions};
+//! let dims = [("a", 30), ("b", 35), ("c", 15), ("d", 5), ("e", 10), ("f", 20), ("g", 25)]
+//!     .map(|(n, d)| (n.to_string(), d));
+//! let net = network_from_einsum("ab,bc,cd,de,ef,fg->ag", None, &dims).unwrap();
+//! let result = find_tree(&net, &SearchOptions::trials(20, 1)).unwrap();
+//! assert_eq!(result.metrics.total_ops.exact, Some(15125));
+//! ```
+
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::Mutex;
+use std::time::{Duration, Instant};
+
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+
+use super::bound::{width_lower_bound, WidthBound};
+use super::exact::{exact_tree, ALL_SUBSETS_MAX};
+use super::greedy::{greedy_tree, GreedyParams};
+use super::objective::{Key, Measures, Objective};
+use super::partition::{partition_tree, PartitionParams};
+use super::refine::{refine_tree, RefineParams};
+use super::simplify::Simplified;
+use crate::cost::{Metrics, NodeSets, PeakModel};
+use crate::error::{Error, Result};
+use crate::network::Network;
+use crate::num::log2_add;
+use crate::tree::Tree;
+
+/// Networks up to this many tensors (after simplification) get an exact
+/// trial.
+pub const EXACT_AUTO: usize = 16;
+
+/// Which finders the trials may draw.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Finders {
+    /// The exact finder as trial 0 on small networks.
+    pub exact: bool,
+    /// The randomised greedy finder.
+    pub greedy: bool,
+    /// The balanced-partitioning finder.
+    pub partition: bool,
+    /// Subtree refinement inside trials and of the final best.
+    pub refine: bool,
+}
+
+impl Default for Finders {
+    fn default() -> Self {
+        Finders {
+            exact: true,
+            greedy: true,
+            partition: true,
+            refine: true,
+        }
+    }
+}
+
+/// Options of a search.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SearchOptions {
+    /// What to minimise.
+    pub objective: Objective,
+    /// Stop after this many trials.
+    pub trials: Option<u64>,
+    /// Stop after this much time (the final refinement included).
+    pub time: Option<Duration>,
+    /// Seed of every random choice.
+    pub seed: u64,
+    /// Worker threads (0: one per core).
+    pub threads: usize,
+    /// Finders the trials may use.
+    pub finders: Finders,
+    /// Simplify (absorb small tensors) for some trials.
+    pub simplify: bool,
+}
+
+impl SearchOptions {
+    /// Options for a fixed number of trials with a seed (deterministic).
+    pub fn trials(trials: u64, seed: u64) -> SearchOptions {
+        SearchOptions {
+            objective: Objective::TotalOps,
+            trials: Some(trials),
+            time: None,
+            seed,
+            threads: 0,
+            finders: Finders::default(),
+            simplify: true,
+        }
+    }
+
+    /// Options for a time budget with a seed.
+    pub fn time(time: Duration, seed: u64) -> SearchOptions {
+        SearchOptions {
+            time: Some(time),
+            trials: None,
+            ..SearchOptions::trials(0, seed)
+        }
+    }
+
+    /// Checks the options before any work.
+    pub fn validate(&self) -> Result<()> {
+        match (self.trials, self.time) {
+            (None, None) => Err(Error::usage(
+                "give a trial count or a time budget (e.g. --trials 100 or --time 10s)",
+            )),
+            (Some(0), _) => Err(Error::usage("the trial count must be at least 1")),
+            (_, Some(t)) if t.is_zero() => Err(Error::usage("the time budget must be positive")),
+            _ if !(self.finders.greedy || self.finders.partition || self.finders.exact) => {
+                Err(Error::usage("enable at least one finder"))
+            }
+            _ => Ok(()),
+        }
+    }
+}
+
+/// Where a search stands, for progress display.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Progress {
+    /// Trials finished.
+    pub trials_done: u64,
+    /// The trial budget, if any.
+    pub trials_total: Option<u64>,
+    /// Time since the search started.
+    pub elapsed: Duration,
+    /// Measures of the best tree so far.
+    pub best: Option<Measures>,
+}
+
+/// The outcome of a search.
+#[derive(Debug, Clone)]
+pub struct SearchResult {
+    /// The best tree, over the network's tensors.
+    pub tree: Tree,
+    /// Its metrics by the cost model (default peak model).
+    pub metrics: Metrics,
+    /// The proven lower bound on width.
+    pub lower_bound: WidthBound,
+    /// Trials run.
+    pub trials: u64,
+    /// The trial that found the best tree.
+    pub best_trial: u64,
+    /// How the best tree was found, e.g. `greedy+refine`.
+    pub finder: String,
+    /// Seconds from the start until the best trial finished.
+    pub seconds_to_best: f64,
+    /// Seconds the whole search took.
+    pub seconds: f64,
+    /// True when the search was stopped early (Ctrl-C).
+    pub interrupted: bool,
+}
+
+/// One trial's tree and score.
+struct Found {
+    key: Key,
+    trial: u64,
+    problem: usize,
+    merges: Vec<[usize; 2]>,
+    measures: Measures,
+    finder: String,
+    at: Duration,
+}
+
+/// Searches with the options; see the module docs.
+pub fn find_tree(net: &Network, opts: &SearchOptions) -> Result<SearchResult> {
+    find_tree_with(net, opts, &|_| {}, &AtomicBool::new(false))
+}
+
+/// Like [`find_tree`], calling `progress` after each trial (from worker
+/// threads) and stopping early, keeping the best so far, once `stop` is set.
+pub fn find_tree_with(
+    net: &Network,
+    opts: &SearchOptions,
+    progress: &(dyn Fn(&Progress) + Sync),
+    stop: &AtomicBool,
+) -> Result<SearchResult> {
+    opts.validate()?;
+    let start = Instant::now();
+    let deadline = opts.time.map(|t| start + t.mul_f64(0.85));
+    let hard_deadline = opts.time.map(|t| start + t);
+    let plain = Simplified::new(net, false);
+    let mut problems = vec![plain];
+    if opts.simplify {
+        let absorbed = Simplified::new(net, true);
+        if absorbed.problem.len() < problems[0].problem.len() {
+            problems.push(absorbed);
+        }
+    }
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(opts.threads)
+        .build()
+        .map_err(|e| Error::Cannot(format!("cannot start worker threads: {e}")))?;
+    let workers = pool.current_num_threads();
+    let next = AtomicU64::new(0);
+    let done = AtomicU64::new(0);
+    let best: Mutex<Option<Found>> = Mutex::new(None);
+    let finished_exactly = AtomicBool::new(false);
+    let ctx = Ctx {
+        net,
+        opts,
+        problems: &problems,
+    };
+    pool.scope(|s| {
+        for _ in 0..workers {
+            s.spawn(|_| loop {
+                let i = next.fetch_add(1, Ordering::SeqCst);
+                let out_of_time = deadline.is_some_and(|d| Instant::now() >= d);
+                if opts.trials.is_some_and(|t| i >= t)
+                    || (i > 0
+                        && (stop.load(Ordering::SeqCst)
+                            || out_of_time
+                            || finished_exactly.load(Ordering::SeqCst)))
+                {
+                    break;
+                }
+                let Some(found) = ctx.trial(i, start) else {
+                    continue;
+                };
+                if found.finder == "exact" && ctx.exact_is_optimal() {
+                    finished_exactly.store(true, Ordering::SeqCst);
+                }
+                let measures = {
+                    let mut guard = best.lock().expect("no trial panics");
+                    let replace = guard
+                        .as_ref()
+                        .is_none_or(|b| (found.key, found.trial) < (b.key, b.trial));
+                    if replace {
+                        *guard = Some(found);
+                    }
+                    guard.as_ref().map(|b| b.measures)
+                };
+                let count = done.fetch_add(1, Ordering::SeqCst) + 1;
+                progress(&Progress {
+                    trials_done: count,
+                    trials_total: opts.trials,
+                    elapsed: start.elapsed(),
+                    best: measures,
+                });
+            });
+        }
+    });
+    let mut best = best
+        .into_inner()
+        .expect("no trial panics")
+        .expect("trial 0 always runs and always yields a tree");
+    let interrupted = stop.load(Ordering::SeqCst);
+    if opts.finders.refine && !interrupted {
+        ctx.final_refine(&mut best, hard_deadline);
+    }
+    let tree = problems[best.problem].expand(&best.merges);
+    let metrics = NodeSets::new(net, &tree).evaluate_unsliced(net, PeakModel::default());
+    Ok(SearchResult {
+        tree,
+        metrics,
+        lower_bound: width_lower_bound(net),
+        trials: done.load(Ordering::SeqCst),
+        best_trial: best.trial,
+        finder: best.finder,
+        seconds_to_best: best.at.as_secs_f64(),
+        seconds: start.elapsed().as_secs_f64(),
+        interrupted,
+    })
+}
+
+struct Ctx<'a> {
+    net: &'a Network,
+    opts: &'a SearchOptions,
+    problems: &'a [Simplified],
+}
+
+impl Ctx<'_> {
+    fn exact_is_optimal(&self) -> bool {
+        self.opts.objective.solved_by_exact() && self.problems[0].problem.len() <= ALL_SUBSETS_MAX
+    }
+
+    /// Runs trial `i`; `None` when its finder declined (e.g. too large).
+    fn trial(&self, i: u64, start: Instant) -> Option<Found> {
+        let f = &self.opts.finders;
+        let goal = self.opts.objective.exact_goal();
+        if i == 0 && f.exact {
+            // The exact finder on the unabsorbed problem when it fits
+            // (optimal there), else on the absorbed one.
+            for (k, s) in self.problems.iter().enumerate() {
+                if s.problem.len() <= EXACT_AUTO {
+                    if let Some(m) = exact_tree(&s.problem, goal) {
+                        return Some(self.found(i, k, m, "exact".into(), start));
+                    }
+                }
+            }
+        }
+        let mut rng = ChaCha8Rng::seed_from_u64(trial_seed(self.opts.seed, i));
+        let k = if self.problems.len() > 1 && rng.random_bool(0.5) {
+            1
+        } else {
+            0
+        };
+        let p = &self.problems[k].problem;
+        let use_partition = f.partition && p.len() >= 24 && (!f.greedy || rng.random_bool(0.5));
+        let (mut merges, mut name) = if use_partition {
+            let params = PartitionParams::sample(&mut rng, goal);
+            (
+                partition_tree(p, &params, &mut rng),
+                "partition".to_string(),
+            )
+        } else if f.greedy || f.partition {
+            let params = if i == 0 {
+                GreedyParams::default()
+            } else {
+                GreedyParams::sample(&mut rng)
+            };
+            (greedy_tree(p, &params, &mut rng), "greedy".to_string())
+        } else {
+            return None;
+        };
+        if f.refine && p.len() <= 5000 && rng.random_bool(0.25) {
+            let params = RefineParams {
+                k: rng.random_range(4..=7),
+                goal,
+                passes: 1,
+            };
+            let (refined, changed) = refine_tree(p, &merges, &params, None);
+            if changed {
+                merges = refined;
+                name.push_str("+refine");
+            }
+        }
+        Some(self.found(i, k, merges, name, start))
+    }
+
+    fn found(
+        &self,
+        trial: u64,
+        problem: usize,
+        merges: Vec<[usize; 2]>,
+        finder: String,
+        start: Instant,
+    ) -> Found {
+        let measures = self.measure(problem, &merges);
+        Found {
+            key: self.opts.objective.key(&measures),
+            trial,
+            problem,
+            merges,
+            measures,
+            finder,
+            at: start.elapsed(),
+        }
+    }
+
+    /// The measures of a merge list over problem `k`, on the network's own
+    /// tensors (the peak by the cost model, only when the objective needs it).
+    fn measure(&self, k: usize, merges: &[[usize; 2]]) -> Measures {
+        let s = &self.problems[k];
+        if self.opts.objective.needs_peak() {
+            let tree = s.expand(merges);
+            let m =
+                NodeSets::new(self.net, &tree).evaluate_unsliced(self.net, PeakModel::default());
+            return Measures {
+                total_ops_log2: m.total_ops.log2,
+                width: m.width,
+                peak_log2: Some(m.peak.log2),
+            };
+        }
+        let e = s.problem.evaluate(merges);
+        Measures {
+            total_ops_log2: log2_add(s.fixed_ops_log2, e.total_ops_log2),
+            width: s.fixed_width.max(e.width),
+            peak_log2: None,
+        }
+    }
+
+    /// Refines the best tree with larger subtrees; keeps the result only if
+    /// the objective does not get worse.
+    fn final_refine(&self, best: &mut Found, deadline: Option<Instant>) {
+        let p = &self.problems[best.problem].problem;
+        if best.finder == "exact" && self.exact_is_optimal() {
+            return;
+        }
+        let params = RefineParams {
+            k: if p.len() <= 2000 { 8 } else { 6 },
+            goal: self.opts.objective.exact_goal(),
+            passes: 3,
+        };
+        let (merges, changed) = refine_tree(p, &best.merges, &params, deadline);
+        if !changed {
+            return;
+        }
+        let measures = self.measure(best.problem, &merges);
+        let key = self.opts.objective.key(&measures);
+        if key <= best.key {
+            best.key = key;
+            best.merges = merges;
+            best.measures = measures;
+            best.finder.push_str("+final-refine");
+        }
+    }
+}
+
+/// The seed of trial `i`: a SplitMix64 step over the seed and trial number,
+/// so neighbouring trials get unrelated generators.
+fn trial_seed(seed: u64, i: u64) -> u64 {
+    let mut z = seed ^ i.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}

@@ -1,0 +1,47 @@
+//! Contraction-tree search: exact, randomised greedy and balanced-partition
+//! finders, subtree refinement, simplification, a proven lower bound on
+//! width, and the time- or trial-bounded driver that ties them together.
+//!
+//! Most callers want [`find_tree`] (or [`find_tree_with`] for progress and
+//! Ctrl-C): give it a network and [`SearchOptions`] (objective, trial or time
+//! budget, seed, threads) and get a [`SearchResult`] with the tree over the
+//! network's own tensors, its metrics and the width lower bound.
+//!
+//! ```
+//! use sliceplan::formats::einsum::network_from_einsum;
+//! use sliceplan::search::{find_tree, Objective, SearchOptions};
+//! let net = network_from_einsum("ab,bc,cd,da->", Some(8), &[]).unwrap();
+//! let opts = SearchOptions {
+//!     objective: Objective::OpsWithinWidth { max_width: 6.0 },
+//!     ..SearchOptions::trials(10, 42)
+//! };
+//! let found = find_tree(&net, &opts).unwrap();
+//! assert!(found.metrics.width <= 6.0);
+//! assert!(found.lower_bound.width <= found.metrics.width);
+//! ```
+//!
+//! The finders work on a compact [`Problem`] (tensors as index lists, log2
+//! weights) and return merge lists in single-assignment form; they are
+//! public so that other stages (slicing) can call them directly.
+
+mod bound;
+mod driver;
+mod exact;
+mod greedy;
+mod objective;
+mod partition;
+mod problem;
+mod refine;
+mod simplify;
+
+pub use bound::{width_lower_bound, WidthBound};
+pub use driver::{
+    find_tree, find_tree_with, Finders, Progress, SearchOptions, SearchResult, EXACT_AUTO,
+};
+pub use exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX, CLASSES_MAX, EXACT_MAX};
+pub use greedy::{greedy_tree, GreedyParams};
+pub use objective::{Key, Measures, Objective};
+pub use partition::{partition_tree, PartitionParams};
+pub use problem::{splice, Eval, Problem};
+pub use refine::{refine_tree, RefineParams};
+pub use simplify::{merge_parallel, Simplified};

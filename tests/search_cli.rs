@@ -1,0 +1,120 @@
+//! `sliceplan plan` through the real binary: JSON keys, the tree file,
+//! determinism on the command line, and bad input.
+
+use std::process::Command;
+
+const CHAIN: [&str; 4] = [
+    "--einsum",
+    "ab,bc,cd,de,ef,fg->ag",
+    "--dims",
+    "a=30,b=35,c=15,d=5,e=10,f=20,g=25",
+];
+
+fn sliceplan(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_sliceplan"))
+        .args(args)
+        .output()
+        .expect("the binary runs");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8(out.stdout).unwrap(),
+        String::from_utf8(out.stderr).unwrap(),
+    )
+}
+
+#[test]
+fn plan_json_has_the_documented_keys() {
+    let mut args = vec!["plan"];
+    args.extend(CHAIN);
+    args.extend(["--trials", "20", "--json"]);
+    let (code, stdout, stderr) = sliceplan(&args);
+    assert_eq!(code, 0, "{stderr}");
+    // Exactly one JSON object on stdout.
+    let v: serde_json::Value = serde_json::from_str(&stdout).expect("one JSON object");
+    assert_eq!(v["network"]["tensors"], 6);
+    assert_eq!(v["network"]["indices"], 7);
+    assert!(v["network"]["fingerprint"].is_string());
+    // Cormen et al. §15.2: 15,125 scalar multiplications.
+    assert_eq!(v["tree"]["total_ops"], "15125");
+    assert!((v["tree"]["total_ops_log2"].as_f64().unwrap() - 15125f64.log2()).abs() < 1e-9);
+    for key in ["width", "op_width", "peak_log2", "height"] {
+        assert!(v["tree"][key].is_number(), "tree.{key}");
+    }
+    // The largest input, A1 (30x35), bounds the width from below and is
+    // reached: width = log2 1050.
+    let lb = v["lower_bound"]["width"].as_f64().unwrap();
+    assert!((lb - 1050f64.log2()).abs() < 1e-9, "{lb}");
+}
+
+#[test]
+fn tree_file_round_trips_through_inspect() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("chain.tree.toml");
+    let p = path.to_str().unwrap();
+    let mut args = vec!["plan"];
+    args.extend(CHAIN);
+    args.extend(["--trials", "5", "-o", p]);
+    let (code, stdout, stderr) = sliceplan(&args);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(stdout.contains("15,125"), "{stdout}");
+    let mut args = vec!["inspect"];
+    args.extend(CHAIN);
+    args.extend(["--tree", p, "--json"]);
+    let (code, stdout, stderr) = sliceplan(&args);
+    assert_eq!(code, 0, "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    assert_eq!(v["tree"]["total_ops"], "15125");
+}
+
+#[test]
+fn same_seed_same_output_on_the_command_line() {
+    // A ring of 30 matrices with bond dimension 3, closed.
+    let letters: Vec<char> = "abcdefghijklmnopqrstuvwxyzABCD".chars().collect();
+    let ops: Vec<String> = (0..30)
+        .map(|k| format!("{}{}", letters[k], letters[(k + 1) % 30]))
+        .collect();
+    let eq = format!("{}->", ops.join(","));
+    let dir = tempfile::tempdir().unwrap();
+    let mut files = Vec::new();
+    for threads in ["1", "2"] {
+        let path = dir.path().join(format!("t{threads}.toml"));
+        let p = path.to_str().unwrap().to_string();
+        let (code, _, stderr) = sliceplan(&[
+            "plan",
+            "--einsum",
+            &eq,
+            "--dim",
+            "3",
+            "--trials",
+            "25",
+            "--seed",
+            "9",
+            "--threads",
+            threads,
+            "-o",
+            &p,
+        ]);
+        assert_eq!(code, 0, "{stderr}");
+        files.push(std::fs::read(&path).unwrap());
+    }
+    assert_eq!(files[0], files[1]);
+}
+
+#[test]
+fn bad_options_exit_2_with_a_hint() {
+    let cases: [(&[&str], &str); 4] = [
+        (&["--objective", "fast"], "valid: ops, peak, width"),
+        (&["--time", "soon"], "write e.g. 10s"),
+        (&["--trials", "0"], "at least 1"),
+        (&["--objective", "mix:1,2"], "three weights"),
+    ];
+    for (extra, hint) in cases {
+        let mut args = vec!["plan"];
+        args.extend(CHAIN);
+        args.extend(extra);
+        let (code, stdout, stderr) = sliceplan(&args);
+        assert_eq!(code, 2, "{extra:?}: {stderr}");
+        assert!(stdout.is_empty());
+        assert!(stderr.contains(hint), "{extra:?}: {stderr}");
+    }
+}
