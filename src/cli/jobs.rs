@@ -190,8 +190,13 @@ fn written_text(w: &WrittenJobs, submitted: Option<&str>) -> String {
     };
     let dir = w.dir.display().to_string();
     let mut s = format!(
-        "jobs for plan {} (fingerprint {})\n  {} slices in {} chunks of {size} slices; array {}\n",
-        m.plan, m.plan_fingerprint, m.slices, m.chunks, w.array
+        "jobs for plan {} (fingerprint {})\n  {} slices in {} chunks of {size} slice{}; array {}\n",
+        m.plan,
+        m.plan_fingerprint,
+        m.slices,
+        m.chunks,
+        if hi == 1 { "" } else { "s" },
+        w.array
     );
     s.push_str(&format!(
         "  --mem={}M      {}\n  --time={}   {}\n  --cpus-per-task={} (each run uses {} thread(s))\n",

@@ -220,10 +220,21 @@ pub fn time_request(
             Ok(TimeRequest {
                 seconds,
                 basis: format!(
-                    "{rounds} round(s) x {per:.3} s per slice (model estimate) x {TIME_SAFETY_FACTOR} safety + {TIME_STARTUP_SECONDS} s start-up, rounded up to minutes"
+                    "{rounds} round(s) x {} s per slice (model estimate) x {TIME_SAFETY_FACTOR} safety + {TIME_STARTUP_SECONDS} s start-up, rounded up to minutes",
+                    seconds_text(per)
                 ),
             })
         }
+    }
+}
+
+/// Seconds for people: three decimals, or three significant digits below
+/// a hundredth (model estimates of small slices are microseconds).
+fn seconds_text(s: f64) -> String {
+    if s > 0.0 && s < 0.01 {
+        format!("{s:.2e}")
+    } else {
+        format!("{s:.3}")
     }
 }
 
@@ -326,6 +337,8 @@ mod tests {
         // 1 round x 0.5 s x 2 + 120 = 121 s -> 180 s (whole minutes).
         let r = time_request(TimeChoice::Auto, Some(0.5), 1, 1).unwrap();
         assert_eq!(r.seconds, 180);
+        let r = time_request(TimeChoice::Auto, Some(1.2036e-7), 1, 1).unwrap();
+        assert!(r.basis.contains("1.20e-7 s per slice"), "{}", r.basis);
     }
 
     #[test]
