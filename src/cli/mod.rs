@@ -10,6 +10,7 @@ mod fit;
 mod generate;
 mod import;
 mod inspect;
+mod jobs;
 mod net_args;
 mod plan;
 mod report;
@@ -67,6 +68,9 @@ pub enum Command {
     /// Re-render a plan (text, JSON, CSV, SVG, steps) without searching.
     #[command(after_help = report::EXAMPLES)]
     Report(report::ReportArgs),
+    /// Write a plan's chunks as a Slurm job array; --status lists what to resubmit.
+    #[command(after_help = jobs::EXAMPLES)]
+    Jobs(jobs::JobsArgs),
     /// Read a circuit, formula, graph or network and write it as a native
     /// network file with its values.
     #[command(after_help = import::EXAMPLES)]
@@ -84,6 +88,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Plan(args) => plan::run(args),
         Command::Fit(args) => fit::run(args),
         Command::Report(args) => report::run(args),
+        Command::Jobs(args) => jobs::run(args),
         Command::Import(args) => import::run(args),
         Command::Generate(args) => generate::run(args),
     }
