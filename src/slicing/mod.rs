@@ -253,15 +253,46 @@ pub fn find_slices(
     // the sliced network after each.
     if let Some(refit) = refit.as_mut() {
         if !unsliced.fits(opts) {
+            let tree_id = |t: Tree, trees: &mut Vec<Tree>| match trees.iter().position(|x| *x == t)
+            {
+                Some(id) => id,
+                None => {
+                    trees.push(t);
+                    trees.len() - 1
+                }
+            };
             for (point, t) in greedy::interleaved(net, tree, opts, &mut **refit, rounds) {
-                let id = match trees.iter().position(|x| *x == t) {
-                    Some(id) => id,
-                    None => {
-                        trees.push(t);
-                        trees.len() - 1
-                    }
-                };
+                let id = tree_id(t, &mut trees);
                 add(&mut seen, vec![point], Origin::Cooptimised, id);
+            }
+            // Trees planned from the start for a smaller width: the peak
+            // must come down by `needed` (log2); ask for a width lower by
+            // all of it, and by half of it, then slice those trees greedily.
+            let target = (opts.budget_bytes as f64 - unsliced.need.fixed_bytes())
+                / opts.slices_at_once as f64;
+            let needed = unsliced.need.per_slice_peak_bytes.log2() - target.max(1.0).log2();
+            for share in [1.0, 0.5] {
+                let cap = unsliced.per_slice_width - (needed * share).ceil();
+                if cap < 1.0 {
+                    continue;
+                }
+                let Some(t) = refit(net, &[], cap) else {
+                    continue;
+                };
+                let t_sets = NodeSets::new(net, &t);
+                let trail = greedy::greedy(&t_sets, net, opts, &[]);
+                let fit = trail
+                    .iter()
+                    .find(|p| p.fits(opts))
+                    .map(|p| greedy::prune(&t_sets, net, opts, p));
+                let id = tree_id(t, &mut trees);
+                add(&mut seen, trail, Origin::Cooptimised, id);
+                add(
+                    &mut seen,
+                    fit.into_iter().collect(),
+                    Origin::Cooptimised,
+                    id,
+                );
             }
         }
     }
