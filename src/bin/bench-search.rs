@@ -253,7 +253,9 @@ fn rate500() {
         },
         ..SearchOptions::trials(4000, 1)
     };
+    let cpu0 = cpu_seconds();
     let r = find_tree(&net, &opts).expect("search runs");
+    let cpu = cpu_seconds() - cpu0;
     let rate = r.trials as f64 / r.seconds;
     let verdict = format!(
         "greedy trials/s >= 1000: {} ({rate:.0}/s)",
@@ -261,8 +263,11 @@ fn rate500() {
     );
     row(&mut t, &net, &opts, &r, verdict);
     println!(
-        "Greedy trial rate, 500 tensors (all cores)\n{}",
-        t.render(2)
+        "Greedy trial rate, 500 tensors (all cores)\n{}  CPU time {cpu:.2} s for {} trials: {:.0} trials per CPU-second; {:.2} cores busy on average\n",
+        t.render(2),
+        r.trials,
+        r.trials as f64 / cpu.max(1e-9),
+        cpu / r.seconds
     );
 }
 
@@ -272,6 +277,20 @@ fn met(ok: bool) -> &'static str {
     } else {
         "MISSED"
     }
+}
+
+/// CPU seconds (user + system) this process has used, from /proc (Linux;
+/// clock ticks of 1/100 s).
+fn cpu_seconds() -> f64 {
+    std::fs::read_to_string("/proc/self/stat")
+        .ok()
+        .and_then(|s| {
+            let rest = s.rsplit_once(')')?.1.to_string();
+            let f: Vec<&str> = rest.split_whitespace().collect();
+            let ticks: f64 = f.get(11)?.parse::<f64>().ok()? + f.get(12)?.parse::<f64>().ok()?;
+            Some(ticks / 100.0)
+        })
+        .unwrap_or(f64::NAN)
 }
 
 /// The process's peak resident memory, from /proc (Linux).

@@ -101,6 +101,9 @@ struct State<'a> {
     /// Index list of every node (leaves, then merges); emptied when merged.
     nodes: Vec<Vec<u32>>,
     size: Vec<f64>,
+    /// Weight of the indices only this node carries and that are not open
+    /// (possible at leaves only: a merged node keeps no such index).
+    lone: Vec<f64>,
     alive: Vec<bool>,
     /// Alive nodes carrying each index.
     holders: Vec<Vec<u32>>,
@@ -110,27 +113,23 @@ struct State<'a> {
 }
 
 impl State<'_> {
-    /// log2 size of the result of merging alive nodes `a` and `b`.
+    /// log2 size of the result of merging alive nodes `a` and `b`:
+    /// w(a) + w(b), less each shared index once (twice when a and b are its
+    /// last holders and it is not open, so it is summed), less the indices
+    /// only a leaf carries. Walks the shorter list, searching the longer.
     fn result_size(&self, a: usize, b: usize) -> f64 {
         let (la, lb) = (&self.nodes[a], &self.nodes[b]);
-        let mut w = 0.0;
-        let (mut i, mut j) = (0, 0);
-        while i < la.len() || j < lb.len() {
-            let (e, both) = if j >= lb.len() || (i < la.len() && la[i] < lb[j]) {
-                i += 1;
-                (la[i - 1], false)
-            } else if i >= la.len() || lb[j] < la[i] {
-                j += 1;
-                (lb[j - 1], false)
-            } else {
-                i += 1;
-                j += 1;
-                (la[i - 1], true)
-            };
-            let e = e as usize;
-            let carried = if both { 2 } else { 1 };
-            if self.p.open[e] || self.holders[e].len() > carried {
-                w += self.p.weight[e];
+        let (short, long) = if la.len() <= lb.len() {
+            (la, lb)
+        } else {
+            (lb, la)
+        };
+        let mut w = self.size[a] + self.size[b] - self.lone[a] - self.lone[b];
+        for &e in short.iter() {
+            if long.binary_search(&e).is_ok() {
+                let e = e as usize;
+                let summed = !self.p.open[e] && self.holders[e].len() == 2;
+                w -= self.p.weight[e] * if summed { 2.0 } else { 1.0 };
             }
         }
         w
@@ -170,6 +169,7 @@ impl State<'_> {
             }
         }
         self.size.push(self.p.weight_of(&kept));
+        self.lone.push(0.0);
         self.nodes.push(kept);
         self.alive[a] = false;
         self.alive[b] = false;
@@ -208,6 +208,16 @@ pub fn greedy_tree<R: Rng>(p: &Problem, params: &GreedyParams, rng: &mut R) -> V
         p,
         nodes: p.tensors.clone(),
         size: p.tensors.iter().map(|t| p.weight_of(t)).collect(),
+        lone: p
+            .tensors
+            .iter()
+            .map(|t| {
+                t.iter()
+                    .filter(|&&e| !p.open[e as usize] && p.incidence[e as usize].len() == 1)
+                    .map(|&e| p.weight[e as usize])
+                    .sum()
+            })
+            .collect(),
         alive: vec![true; n],
         holders: p.incidence.clone(),
         stamp: vec![0; n],
