@@ -337,11 +337,19 @@ impl Ctx<'_> {
         } else {
             return None;
         };
-        if f.refine && p.len() <= 5000 && rng.random_bool(0.25) {
+        // Small problems are always refined (cheap); larger ones sometimes.
+        let refine_now = p.len() <= 64 || (p.len() <= 5000 && rng.random_bool(0.25));
+        if f.refine && refine_now {
+            let small = p.len() <= 64;
             let params = RefineParams {
-                k: rng.random_range(4..=7),
+                k: if small {
+                    rng.random_range(5..=9)
+                } else {
+                    rng.random_range(4..=7)
+                },
                 goal,
-                passes: 1,
+                passes: if small { 3 } else { 1 },
+                random_frontier: rng.random_bool(0.5).then(|| rng.random()),
             };
             let (refined, changed) = refine_tree(p, &merges, &params, None);
             if changed {
@@ -405,6 +413,7 @@ impl Ctx<'_> {
             k: if p.len() <= 2000 { 8 } else { 6 },
             goal: self.opts.objective.exact_goal(),
             passes: 3,
+            random_frontier: None,
         };
         let (merges, changed) = refine_tree(p, &best.merges, &params, deadline);
         if !changed {
