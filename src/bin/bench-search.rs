@@ -209,12 +209,25 @@ fn random12() {
 fn scale10k() {
     let mut t = header();
     let net = lattice(&[100, 100], 2, false).expect("lattice");
+    // Time to a first valid tree: one trial.
+    let first = SearchOptions::trials(1, 1);
+    let start = Instant::now();
+    let r = find_tree(&net, &first).expect("search runs");
+    let secs = start.elapsed().as_secs_f64();
+    let verdict = format!("valid tree in <= 10 s: {} ({secs:.1} s)", met(secs <= 10.0));
+    row(&mut t, &net, &first, &r, verdict);
+    // What a 10 s budget gives.
     let opts = timed(Objective::TotalOps, 10.0, 1);
     let start = Instant::now();
     let r = find_tree(&net, &opts).expect("search runs");
     let secs = start.elapsed().as_secs_f64();
-    let verdict = format!("valid tree in <= 10 s: {} ({secs:.1} s)", met(secs <= 10.5));
-    row(&mut t, &net, &opts, &r, verdict);
+    row(
+        &mut t,
+        &net,
+        &opts,
+        &r,
+        format!("10 s budget, took {secs:.1} s"),
+    );
     println!("10,000 tensors\n{}  peak memory {}\n", t.render(2), rss());
 }
 

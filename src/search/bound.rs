@@ -84,7 +84,8 @@ pub fn width_lower_bound(net: &Network) -> WidthBound {
     let largest_tensor = (0..net.num_tensors())
         .map(|t| net.tensor_size_log2(t))
         .fold(0.0f64, f64::max);
-    let output: f64 = net.open.iter().map(|&e| w[e]).sum();
+    // A fold from +0 (an empty f64 sum is -0, which prints as -0.00).
+    let output = net.open.iter().fold(0.0, |acc, &e| acc + w[e]);
     let m = net.num_indices();
     let in_graph: Vec<bool> = (0..m)
         .map(|e| w[e] > 0.0 && (incidence[e].len() >= 2 || open[e]))

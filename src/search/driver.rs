@@ -4,11 +4,26 @@
 //! # What it computes
 //!
 //! [`find_tree`] searches for a tree minimising an [`Objective`] within a
-//! budget of trials or time. Trial 0 is the exact finder when the network
-//! (after simplification) is small enough; every other trial draws a finder
-//! (greedy or partitioning) and its parameters, optionally refines its tree,
-//! and is scored. The best tree then gets a final refinement and is priced
-//! with the cost model on the network's own tensors.
+//! budget of trials or time (when both are given, whichever ends first).
+//!
+//! * Trial 0 is the exact finder when the network, simplified without or
+//!   with absorption, has at most [`EXACT_AUTO`] tensors. When that is the
+//!   unabsorbed network with at most 12 tensors (outer products included,
+//!   so the optimum over all trees) and the objective is one the exact
+//!   finder optimises, the search ends there.
+//! * Every other trial works on the unabsorbed or the absorbed problem (a
+//!   coin toss) and draws a finder: partitioning (half the trials, from 24
+//!   tensors up) or greedy, with parameters drawn too. Its tree is refined
+//!   with random subtree sizes (always on problems of at most 64 tensors,
+//!   a quarter of the trials up to 5,000 tensors).
+//! * Trials are scored by the objective on the network's own tensors (the
+//!   absorbed merges included), the peak by the cost model when needed.
+//! * The best tree gets a final refinement with larger subtrees (kept only
+//!   if the objective does not get worse), and is priced by the cost model.
+//!
+//! With a time budget, new trials start during the first 85% of it and the
+//! final refinement stops at its end; a trial already running finishes (so
+//! a single slow trial, e.g. greedy on 100,000 tensors, may overrun).
 //!
 //! # Determinism
 //!
