@@ -216,6 +216,41 @@ fn width_objectives_keep_to_the_cap() {
 }
 
 #[test]
+fn sliced_search_prices_one_slice() {
+    // Slicing both bonds of A(a,b) B(b,c) C(c,a) (dims 4): each slice is a
+    // product of scalars and vectors; by hand, the ring with b and c fixed
+    // is A(a) B() C(a): best total ops 4 (A with C over a) + 1 = 5.
+    let net = sliceplan::formats::einsum::network_from_einsum("ab,bc,ca->", Some(4), &[]).unwrap();
+    let ids = net.parse_index_list("b,c", "test").unwrap();
+    let r = sliceplan::search::find_tree_sliced(&net, &ids, &SearchOptions::trials(5, 1)).unwrap();
+    assert_eq!(r.metrics.total_ops.exact, Some(5));
+    assert!(sliceplan::search::find_tree_sliced(&net, &[9], &SearchOptions::trials(5, 1)).is_err());
+}
+
+#[test]
+fn stopping_keeps_the_best_so_far() {
+    // As Ctrl-C does: the progress callback raises the stop flag after the
+    // third trial of a budget of 10,000; the search returns a valid tree.
+    use std::sync::atomic::{AtomicBool, Ordering};
+    let net = lattice_2d(6, 2);
+    let stop = AtomicBool::new(false);
+    let on_progress = |p: &sliceplan::search::Progress| {
+        assert!(p.best.is_some());
+        if p.trials_done >= 3 {
+            stop.store(true, Ordering::SeqCst);
+        }
+    };
+    let opts = SearchOptions {
+        threads: 1,
+        ..SearchOptions::trials(10_000, 2)
+    };
+    let r = sliceplan::search::find_tree_with(&net, &opts, &on_progress, &stop).unwrap();
+    assert!(r.interrupted);
+    assert_eq!(r.trials, 3);
+    validate(&net, "interrupted search", &r.tree, None);
+}
+
+#[test]
 fn bad_options_are_refused() {
     let net = chain(&[2, 3, 4]);
     let mut opts = SearchOptions::trials(0, 1);

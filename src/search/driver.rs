@@ -64,7 +64,7 @@ use super::refine::{refine_tree, RefineParams};
 use super::simplify::Simplified;
 use crate::cost::{Metrics, NodeSets, PeakModel};
 use crate::error::{Error, Result};
-use crate::network::Network;
+use crate::network::{IndexId, Network};
 use crate::num::log2_add;
 use crate::tree::Tree;
 
@@ -204,6 +204,28 @@ struct Found {
 /// Searches with the options; see the module docs.
 pub fn find_tree(net: &Network, opts: &SearchOptions) -> Result<SearchResult> {
     find_tree_with(net, opts, &|_| {}, &AtomicBool::new(false))
+}
+
+/// Searches as if the indices in `sliced` had dimension 1 (one slice), as
+/// the slicing stage re-plans a tree for a slice set. The tree is over the
+/// same tensors; the metrics and lower bound are per slice. A natural
+/// [`crate::slicing::Refit`] closure.
+pub fn find_tree_sliced(
+    net: &Network,
+    sliced: &[IndexId],
+    opts: &SearchOptions,
+) -> Result<SearchResult> {
+    let mut one_slice = net.clone();
+    for &e in sliced {
+        let index = one_slice.indices.get_mut(e).ok_or_else(|| {
+            Error::usage(format!(
+                "sliced index id {e} is out of range (the network has {} indices)",
+                net.num_indices()
+            ))
+        })?;
+        index.dim = 1;
+    }
+    find_tree(&one_slice, opts)
 }
 
 /// Like [`find_tree`], calling `progress` after each trial (from worker

@@ -36,7 +36,8 @@ mod simplify;
 
 pub use bound::{width_lower_bound, WidthBound};
 pub use driver::{
-    find_tree, find_tree_with, Finders, Progress, SearchOptions, SearchResult, EXACT_AUTO,
+    find_tree, find_tree_sliced, find_tree_with, Finders, Progress, SearchOptions, SearchResult,
+    EXACT_AUTO,
 };
 pub use exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX, CLASSES_MAX, EXACT_MAX};
 pub use greedy::{greedy_tree, GreedyParams};
