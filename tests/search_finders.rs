@@ -12,8 +12,9 @@ use search_support::*;
 use sliceplan::cost::metrics;
 use sliceplan::network::Network;
 use sliceplan::search::{
-    exact_tree, find_tree, greedy_tree, partition_tree, refine_tree, ExactGoal, Finders,
-    GreedyParams, Objective, PartitionParams, Problem, RefineParams, SearchOptions, Simplified,
+    anneal_tree, exact_tree, find_tree, greedy_tree, partition_tree, refine_tree, AnnealParams,
+    ExactGoal, Finders, GreedyParams, Objective, PartitionParams, Problem, RefineParams,
+    SearchOptions, Simplified,
 };
 use sliceplan::tree::{tree_file_text, Tree};
 
@@ -121,6 +122,17 @@ fn finders() -> Vec<(&'static str, Finder)> {
                     random_frontier: Some(5),
                 };
                 Some(refine_tree(p, &m, &params, None).0)
+            }),
+        ),
+        (
+            "greedy+anneal",
+            Box::new(move |p: &Problem| {
+                let m = greedy_tree(p, &GreedyParams::default(), &mut rng());
+                let params = AnnealParams {
+                    steps: 500,
+                    ..AnnealParams::default()
+                };
+                Some(anneal_tree(p, &m, &params, &mut rng()).0)
             }),
         ),
     ]
@@ -283,7 +295,7 @@ proptest! {
     }
 
     #[test]
-    fn refinement_is_never_worse(seed in 0u64..10_000, n in 3usize..=14, k in 3usize..=7) {
+    fn refinement_and_annealing_are_never_worse(seed in 0u64..10_000, n in 3usize..=14, k in 3usize..=7) {
         let net = random_network(seed, n);
         let p = Problem::from_network(&net);
         let mut rng = ChaCha8Rng::seed_from_u64(seed);
@@ -292,6 +304,9 @@ proptest! {
         for goal in [ExactGoal::TotalOps, ExactGoal::Width] {
             let (after, _) = refine_tree(&p, &start, &RefineParams { k, goal, passes: 3, random_frontier: (seed % 2 == 0).then_some(seed) }, None);
             let after = p.evaluate(&after);
+            let hot = AnnealParams { steps: 300, t_start: 0.5, ..AnnealParams::default() };
+            let (annealed, _) = anneal_tree(&p, &start, &hot, &mut rng);
+            prop_assert!(p.evaluate(&annealed).total_ops_log2 <= before.total_ops_log2 + 1e-9);
             match goal {
                 ExactGoal::TotalOps => prop_assert!(after.total_ops_log2 <= before.total_ops_log2 + 1e-9),
                 _ => prop_assert!(after.width <= before.width + 1e-9),

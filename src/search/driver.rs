@@ -15,7 +15,8 @@
 //!   coin toss) and draws a finder: partitioning (half the trials, from 24
 //!   tensors up) or greedy, with parameters drawn too. Its tree is refined
 //!   with random subtree sizes (always on problems of at most 64 tensors,
-//!   a quarter of the trials up to 5,000 tensors).
+//!   a quarter of the trials up to 5,000 tensors), and in a fifth of the
+//!   trials annealed by rotations (objectives on total ops only).
 //! * Trials are scored by the objective on the network's own tensors (the
 //!   absorbed merges included), the peak by the cost model when needed.
 //! * The best tree gets a final refinement with larger subtrees (kept only
@@ -55,8 +56,9 @@ use std::time::{Duration, Instant};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
+use super::anneal::{anneal_tree, AnnealParams};
 use super::bound::{width_lower_bound, WidthBound};
-use super::exact::{exact_tree, ALL_SUBSETS_MAX};
+use super::exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX};
 use super::greedy::{greedy_tree, GreedyParams};
 use super::objective::{Key, Measures, Objective};
 use super::partition::{partition_tree, PartitionParams};
@@ -394,6 +396,19 @@ impl Ctx<'_> {
                 name.push_str("+refine");
             }
         }
+        if let (true, Some(cap)) = (f.refine && rng.random_bool(0.2), ops_cap(goal)) {
+            let params = AnnealParams {
+                steps: merges.len() * rng.random_range(5..=30),
+                t_start: rng.random_range(0.005..0.1),
+                t_end: 0.0005,
+                max_width: cap,
+            };
+            let (annealed, changed) = anneal_tree(p, &merges, &params, &mut rng);
+            if changed {
+                merges = annealed;
+                name.push_str("+anneal");
+            }
+        }
         Some(self.found(i, k, merges, name, start))
     }
 
@@ -464,6 +479,16 @@ impl Ctx<'_> {
             best.measures = measures;
             best.finder.push_str("+final-refine");
         }
+    }
+}
+
+/// The width cap rotations must respect when annealing serves `goal`
+/// (`None`: annealing on total ops does not serve a width goal).
+fn ops_cap(goal: ExactGoal) -> Option<f64> {
+    match goal {
+        ExactGoal::TotalOps => Some(f64::INFINITY),
+        ExactGoal::OpsWithin(cap) => Some(cap),
+        ExactGoal::Width => None,
     }
 }
 

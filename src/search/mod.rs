@@ -1,5 +1,5 @@
 //! Contraction-tree search: exact, randomised greedy and balanced-partition
-//! finders, subtree refinement, simplification, a proven lower bound on
+//! finders, subtree refinement, rotations by annealing, simplification, a proven lower bound on
 //! width, and the time- or trial-bounded driver that ties them together.
 //!
 //! Most callers want [`find_tree`] (or [`find_tree_with`] for progress and
@@ -24,6 +24,7 @@
 //! weights) and return merge lists in single-assignment form; they are
 //! public so that other stages (slicing) can call them directly.
 
+mod anneal;
 mod bound;
 mod driver;
 mod exact;
@@ -34,6 +35,7 @@ mod problem;
 mod refine;
 mod simplify;
 
+pub use anneal::{anneal_tree, AnnealParams};
 pub use bound::{width_lower_bound, WidthBound};
 pub use driver::{
     find_tree, find_tree_sliced, find_tree_with, Finders, Progress, SearchOptions, SearchResult,

@@ -256,7 +256,7 @@ fn post_order(n: usize, children: &[[usize; 2]], root: usize) -> Vec<usize> {
 }
 
 /// Renumbers the tree in post-order into single-assignment merges.
-fn linearise(n: usize, children: &[[usize; 2]], root: usize) -> Vec<[usize; 2]> {
+pub(super) fn linearise(n: usize, children: &[[usize; 2]], root: usize) -> Vec<[usize; 2]> {
     let order = post_order(n, children, root);
     let mut new_id = vec![usize::MAX; n + children.len()];
     for (t, slot) in new_id.iter_mut().enumerate().take(n) {
