@@ -30,6 +30,7 @@ mod driver;
 mod exact;
 mod greedy;
 mod objective;
+mod options;
 mod partition;
 mod problem;
 mod refine;
@@ -37,13 +38,11 @@ mod simplify;
 
 pub use anneal::{anneal_tree, AnnealParams};
 pub use bound::{width_lower_bound, WidthBound};
-pub use driver::{
-    find_tree, find_tree_sliced, find_tree_with, Finders, Progress, SearchOptions, SearchResult,
-    EXACT_AUTO,
-};
+pub use driver::{find_tree, find_tree_sliced, find_tree_with, EXACT_AUTO};
 pub use exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX, CLASSES_MAX, EXACT_MAX};
 pub use greedy::{greedy_tree, GreedyParams};
 pub use objective::{Key, Measures, Objective};
+pub use options::{Finders, Progress, SearchOptions, SearchResult};
 pub use partition::{partition_tree, PartitionParams};
 pub use problem::{splice, Eval, Problem};
 pub use refine::{refine_tree, RefineParams};
