@@ -23,9 +23,9 @@ use crate::search::{find_tree_with, Objective, Progress, SearchOptions, SearchRe
 use crate::tree::write_tree_file;
 
 pub(super) const EXAMPLES: &str = "Examples:
-  sliceplan plan demo-data/lattice-6x6.toml --time 5s -o lattice.tree.toml
+  sliceplan plan demo-data/ising-6x6.toml --time 5s -o ising.tree.toml
   sliceplan plan --einsum \"ab,bc,cd,de,ef,fg->ag\" --dims a=30,b=35,c=15,d=5,e=10,f=20,g=25 --trials 50
-  sliceplan plan net.toml --trials 500 --seed 7 --threads 2 --objective ops-within:30 --json";
+  sliceplan plan demo-data/matrix-chain.toml --trials 500 --seed 7 --threads 2 --objective width --json";
 
 /// Arguments of `plan`.
 #[derive(Debug, Args)]
@@ -109,6 +109,7 @@ impl PlanArgs {
             ..SearchOptions::trials(1, self.seed)
         };
         search.validate().map_err(|e| match e {
+            Error::Usage(m) if m.contains("threads") => Error::usage(format!("--threads: {m}")),
             Error::Usage(m) => Error::usage(format!("--trials/--time: {m}")),
             other => other,
         })?;

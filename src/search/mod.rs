@@ -42,7 +42,7 @@ pub use driver::{find_tree, find_tree_sliced, find_tree_with, EXACT_AUTO};
 pub use exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX, CLASSES_MAX, EXACT_MAX};
 pub use greedy::{greedy_tree, GreedyParams};
 pub use objective::{Key, Measures, Objective};
-pub use options::{Finders, Progress, SearchOptions, SearchResult};
+pub use options::{Finders, Progress, SearchOptions, SearchResult, MAX_THREADS};
 pub use partition::{partition_tree, PartitionParams};
 pub use problem::{splice, Eval, Problem};
 pub use refine::{refine_tree, RefineParams};

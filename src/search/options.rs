@@ -8,6 +8,9 @@ use crate::cost::Metrics;
 use crate::error::{Error, Result};
 use crate::tree::Tree;
 
+/// The most worker threads a search accepts.
+pub const MAX_THREADS: usize = 1024;
+
 /// Which finders the trials may draw.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Finders {
@@ -82,6 +85,10 @@ impl SearchOptions {
             )),
             (Some(0), _) => Err(Error::usage("the trial count must be at least 1")),
             (_, Some(t)) if t.is_zero() => Err(Error::usage("the time budget must be positive")),
+            _ if self.threads > MAX_THREADS => Err(Error::usage(format!(
+                "{} threads is too many; give at most {MAX_THREADS} (0 means one per core)",
+                self.threads
+            ))),
             _ if !(self.finders.greedy || self.finders.partition || self.finders.exact) => {
                 Err(Error::usage("enable at least one finder"))
             }
