@@ -1,12 +1,13 @@
-//! Reading `.npy` files (numpy's documented format) into complex values.
+//! Reading and writing `.npy` files (numpy's documented format).
 //!
-//! Accepted element types: f32, f64, complex64, complex128, and integers and
+//! Writing: [`write_npy`] stores float64 when every imaginary part is zero,
+//! else complex128, in C order, atomically. Reading: accepted element types: f32, f64, complex64, complex128, and integers and
 //! booleans (converted exactly to f64). C and Fortran order are both read;
 //! values are returned in row-major (C) order.
 
 use std::path::Path;
 
-use npyz::{NpyFile, Order, TypeChar};
+use npyz::{NpyFile, Order, TypeChar, WriterBuilder};
 use num_complex::Complex64;
 
 use crate::error::{Error, Result};
@@ -66,6 +67,53 @@ pub fn read_npy(path: &Path) -> Result<NpyArray> {
     Ok(NpyArray { shape, values })
 }
 
+/// Encodes row-major `values` of the given shape as `.npy` bytes: float64
+/// when every imaginary part is zero, else complex128.
+pub fn encode_npy(shape: &[u64], values: &[Complex64]) -> std::io::Result<Vec<u8>> {
+    let mut bytes = Vec::new();
+    if values.iter().all(|z| z.im == 0.0) {
+        let mut w = npyz::WriteOptions::<f64>::new()
+            .default_dtype()
+            .shape(shape)
+            .writer(&mut bytes)
+            .begin_nd()?;
+        w.extend(values.iter().map(|z| z.re))?;
+        w.finish()?;
+    } else {
+        let mut w = npyz::WriteOptions::<Complex64>::new()
+            .default_dtype()
+            .shape(shape)
+            .writer(&mut bytes)
+            .begin_nd()?;
+        w.extend(values.iter().copied())?;
+        w.finish()?;
+    }
+    Ok(bytes)
+}
+
+/// Writes row-major `values` of the given shape to a `.npy` file atomically.
+///
+/// ```
+/// use num_complex::Complex64;
+/// let dir = tempfile::tempdir().unwrap();
+/// let path = dir.path().join("t.npy");
+/// let v = [Complex64::new(1.0, 0.0), Complex64::new(0.0, 2.0)];
+/// sliceplan::npy::write_npy(&path, &[2], &v).unwrap();
+/// assert_eq!(sliceplan::npy::read_npy(&path).unwrap().values, v);
+/// ```
+pub fn write_npy(path: &Path, shape: &[u64], values: &[Complex64]) -> Result<()> {
+    let want = crate::num::product(shape.iter().copied());
+    if want != Some(values.len() as u128) {
+        return Err(Error::Cannot(format!(
+            "{}: {} values do not fill shape {shape:?}",
+            path.display(),
+            values.len()
+        )));
+    }
+    let bytes = encode_npy(shape, values).map_err(|e| Error::write(path, e))?;
+    crate::io::write_atomic(path, &bytes)
+}
+
 /// Reorders column-major values into row-major order.
 fn fortran_to_c(values: &[Complex64], shape: &[u64]) -> Vec<Complex64> {
     let n = values.len();
@@ -94,6 +142,28 @@ fn fortran_to_c(values: &[Complex64], shape: &[u64]) -> Vec<Complex64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn written_files_read_back() {
+        let dir = tempfile::tempdir().unwrap();
+        let real: Vec<Complex64> = (0..6)
+            .map(|k| Complex64::new(k as f64 - 2.5, 0.0))
+            .collect();
+        let p = dir.path().join("r.npy");
+        write_npy(&p, &[2, 3], &real).unwrap();
+        let back = read_npy(&p).unwrap();
+        assert_eq!((back.shape, back.values), (vec![2, 3], real));
+        // numpy's format: magic "\x93NUMPY", then the header dict naming '<f8'.
+        let bytes = std::fs::read(&p).unwrap();
+        assert_eq!(&bytes[..6], b"\x93NUMPY");
+        assert!(String::from_utf8_lossy(&bytes).contains("'descr': '<f8'"));
+        let cplx = vec![Complex64::new(0.5, -1.0), Complex64::new(3.0, 1e-300)];
+        let p = dir.path().join("c.npy");
+        write_npy(&p, &[2], &cplx).unwrap();
+        assert_eq!(read_npy(&p).unwrap().values, cplx);
+        assert!(String::from_utf8_lossy(&std::fs::read(&p).unwrap()).contains("'descr': '<c16'"));
+        assert!(write_npy(&p, &[3], &cplx).is_err());
+    }
 
     #[test]
     fn fortran_order_is_transposed() {

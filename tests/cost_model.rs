@@ -1,5 +1,7 @@
 //! The cost model against worked examples and an independent brute force.
 
+mod common;
+
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use sliceplan::cost::{metrics, Dims, Inputs, NodeSets, PeakModel, Workspace};
@@ -135,62 +137,20 @@ fn brute_peak(net: &Network, tree: &Tree, model: PeakModel) -> u128 {
         .expect("a tree has at least one order")
 }
 
-/// A random connected-or-not network: tensors with 1-4 indices drawn from a
-/// small pool (so hyperedges and dangling indices occur), random dims 1-4,
-/// some open indices.
+/// Small random networks: 1-7 tensors, dims 1-4, hyperedges and open
+/// indices included.
 fn random_network(rng: &mut ChaCha8Rng, tensors: usize) -> Network {
-    let pool = rng.random_range(2..=8);
-    let mut b = NetworkBuilder::new("random");
-    for e in 0..pool {
-        b.declare(&format!("i{e}"), rng.random_range(1..=4), None)
-            .unwrap();
-    }
-    let mut used = vec![false; pool];
-    for t in 0..tensors {
-        let k = rng.random_range(1..=pool.min(4));
-        let mut idx: Vec<usize> = Vec::new();
-        while idx.len() < k {
-            let e = rng.random_range(0..pool);
-            if !idx.contains(&e) {
-                idx.push(e);
-            }
-        }
-        for &e in &idx {
-            used[e] = true;
-        }
-        let names: Vec<String> = idx.iter().map(|e| format!("i{e}")).collect();
-        b.tensor(&format!("T{t}"), &names, None, None).unwrap();
-    }
-    // Declared but unused indices are an error: give them to one more tensor.
-    let extra: Vec<String> = (0..pool)
-        .filter(|&e| !used[e])
-        .map(|e| format!("i{e}"))
-        .collect();
-    if !extra.is_empty() {
-        b.tensor("Textra", &extra, None, None).unwrap();
-    }
-    for e in 0..pool {
-        if rng.random_bool(0.2) {
-            b.open(&format!("i{e}"), None).unwrap();
-        }
-    }
-    b.build().unwrap()
+    let shape = common::RandomShape {
+        tensors: tensors..=tensors,
+        pool: 2..=8,
+        dims: 1..=4,
+        legs: 1..=4,
+        open: 0.2,
+    };
+    common::random_network(rng, &shape)
 }
 
-/// A uniformly random binary tree over `n` leaves (random pairwise merges).
-fn random_tree(rng: &mut ChaCha8Rng, n: usize) -> Tree {
-    let mut live: Vec<usize> = (0..n).collect();
-    let mut merges = Vec::new();
-    while live.len() > 1 {
-        let i = rng.random_range(0..live.len());
-        let a = live.swap_remove(i);
-        let j = rng.random_range(0..live.len());
-        let b = live.swap_remove(j);
-        merges.push([a, b]);
-        live.push(n + merges.len() - 1);
-    }
-    Tree::new(n, merges).unwrap()
-}
+use common::random_tree;
 
 #[test]
 fn metrics_match_brute_force_on_random_networks() {

@@ -1,5 +1,7 @@
 //! The slicing search against exhaustive enumeration and explicit slicing.
 
+mod common;
+
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use sliceplan::cost::memory::memory_need;
@@ -9,41 +11,17 @@ use sliceplan::network::{Dtype, IndexId, Network, NetworkBuilder};
 use sliceplan::slicing::{find_slices, SliceOptions};
 use sliceplan::tree::Tree;
 
+/// Random networks of 4-7 tensors over a pool of indices with dims 2-4,
+/// some open (so open indices are sliced too).
 fn random_network(rng: &mut ChaCha8Rng) -> Network {
-    // Random networks of 4-7 tensors over a pool of indices with dims 2-4,
-    // some open (so open indices are sliced too).
-    let pool = rng.random_range(4..=9);
-    let tensors = rng.random_range(4..=7);
-    let mut b = NetworkBuilder::new("random");
-    for e in 0..pool {
-        b.declare(&format!("i{e}"), rng.random_range(2..=4), None)
-            .unwrap();
-    }
-    let mut used = vec![false; pool];
-    for t in 0..tensors {
-        let k = rng.random_range(2..=4);
-        let mut idx: Vec<usize> = Vec::new();
-        while idx.len() < k {
-            let e = rng.random_range(0..pool);
-            if !idx.contains(&e) {
-                idx.push(e);
-            }
-        }
-        idx.iter().for_each(|&e| used[e] = true);
-        let names: Vec<String> = idx.iter().map(|e| format!("i{e}")).collect();
-        b.tensor(&format!("T{t}"), &names, None, None).unwrap();
-    }
-    let extra: Vec<String> = (0..pool)
-        .filter(|&e| !used[e])
-        .map(|e| format!("i{e}"))
-        .collect();
-    if !extra.is_empty() {
-        b.tensor("Tx", &extra, None, None).unwrap();
-    }
-    if rng.random_bool(0.3) {
-        b.open("i0", None).unwrap();
-    }
-    b.build().unwrap()
+    let shape = common::RandomShape {
+        tensors: 4..=7,
+        pool: 4..=9,
+        dims: 2..=4,
+        legs: 2..=4,
+        open: 0.06,
+    };
+    common::random_network(rng, &shape)
 }
 
 /// Every slice set of at most three indices, priced directly: the fewest
@@ -78,17 +56,7 @@ fn enumerate_min_slices(
     best
 }
 
-fn random_tree(rng: &mut ChaCha8Rng, n: usize) -> Tree {
-    let mut live: Vec<usize> = (0..n).collect();
-    let mut merges = Vec::new();
-    while live.len() > 1 {
-        let a = live.swap_remove(rng.random_range(0..live.len()));
-        let b = live.swap_remove(rng.random_range(0..live.len()));
-        merges.push([a, b]);
-        live.push(n + merges.len() - 1);
-    }
-    Tree::new(n, merges).unwrap()
-}
+use common::random_tree;
 
 #[test]
 fn fewest_slices_matches_enumeration_of_sets_up_to_three() {

@@ -5,14 +5,23 @@
 //! that validates them (cheaply, before any long work), calls the library and
 //! returns what to print on stdout with the exit code.
 
+mod budget_args;
+mod fit;
+mod generate;
+mod import;
 mod inspect;
+mod jobs;
 mod net_args;
 mod plan;
+mod report;
+mod search_args;
+mod tree_source;
 
 use clap::{Parser, Subcommand};
 
 pub use net_args::NetArgs;
-pub use plan::{parse_duration, PlanArgs, PlanOptions};
+pub use plan::{PlanArgs, PlanOptions};
+pub use search_args::parse_duration;
 
 use crate::error::Result;
 
@@ -50,9 +59,26 @@ pub enum Command {
     /// Summarise a network and price a contraction tree.
     #[command(after_help = inspect::EXAMPLES)]
     Inspect(inspect::InspectArgs),
-    /// Search for a good contraction tree (time- or trial-bounded).
+    /// Search for a contraction tree; with a budget, slice it and write a plan.
     #[command(after_help = plan::EXAMPLES)]
     Plan(plan::PlanArgs),
+    /// Will it fit the budget? With how many slices, at what overhead?
+    #[command(after_help = fit::EXAMPLES)]
+    Fit(fit::FitArgs),
+    /// Re-render a plan (text, JSON, CSV, SVG, steps) without searching.
+    #[command(after_help = report::EXAMPLES)]
+    Report(report::ReportArgs),
+    /// Write a plan's chunks as a Slurm job array; --status lists what to resubmit.
+    #[command(after_help = jobs::EXAMPLES)]
+    Jobs(jobs::JobsArgs),
+    /// Read a circuit, formula, graph or network and write it as a native
+    /// network file with its values.
+    #[command(after_help = import::EXAMPLES)]
+    Import(import::ImportArgs),
+    /// Write a demo or benchmark network (lattice, regular graph, brickwork
+    /// circuit, matrix chain) as a native network file.
+    #[command(after_help = generate::EXAMPLES)]
+    Generate(generate::GenerateArgs),
 }
 
 /// Runs a parsed command line.
@@ -60,6 +86,11 @@ pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
         Command::Plan(args) => plan::run(args),
+        Command::Fit(args) => fit::run(args),
+        Command::Report(args) => report::run(args),
+        Command::Jobs(args) => jobs::run(args),
+        Command::Import(args) => import::run(args),
+        Command::Generate(args) => generate::run(args),
     }
 }
 

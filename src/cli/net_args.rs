@@ -1,17 +1,19 @@
-//! The arguments every command uses to name its input network.
+//! The arguments every command uses to name its input network, including
+//! the options of circuit and graph input.
 
 use std::path::PathBuf;
 
 use clap::Args;
 
 use crate::error::{Error, Result};
-use crate::formats::{self, einsum, Format, LoadOptions};
+use crate::formats::{self, einsum, AmplitudeSpec, Format, GraphProblem, LoadOptions, OpenQubits};
 use crate::network::Network;
 
 /// Where the network comes from: a file, or an einsum equation.
 #[derive(Debug, Clone, Args)]
 pub struct NetArgs {
-    /// Network file (.toml native network).
+    /// Input file: network (.toml), OpenQASM 2.0 circuit (.qasm), DIMACS CNF
+    /// formula (.cnf), or graph (.col, .graph, .edges).
     #[arg(value_name = "NET", required_unless_present = "einsum")]
     pub net: Option<PathBuf>,
 
@@ -27,9 +29,40 @@ pub struct NetArgs {
     #[arg(long, value_name = "LIST", requires = "einsum")]
     pub dims: Option<String>,
 
-    /// Input format when the extension does not tell (native).
+    /// Input format when the extension does not tell: native, qasm, cnf, graph.
     #[arg(long, value_name = "FMT")]
     pub format: Option<String>,
+
+    /// Circuits: the output bits, one 0/1 per qubit, leftmost = qubit 0 of the
+    /// first qreg (default: all zeros).
+    #[arg(long, value_name = "BITS")]
+    pub bitstring: Option<String>,
+
+    /// Circuits: qubits left open for a batch of amplitudes, e.g. 0,3,5 or all.
+    #[arg(long, value_name = "QUBITS")]
+    pub open: Option<String>,
+
+    /// Graphs: what the network counts: independent-sets, colorings,
+    /// perfect-matchings, ising.
+    #[arg(long, value_name = "PROBLEM")]
+    pub problem: Option<String>,
+
+    /// Graphs: number of colours for --problem colorings.
+    #[arg(long, value_name = "Q")]
+    pub colors: Option<u64>,
+
+    /// Graphs: inverse temperature for --problem ising.
+    #[arg(long, value_name = "BETA", allow_negative_numbers = true)]
+    pub beta: Option<f64>,
+
+    /// Graphs: one coupling J for every edge (--problem ising; default: the
+    /// file's per-edge couplings, else 1).
+    #[arg(long, value_name = "J", allow_negative_numbers = true)]
+    pub coupling: Option<f64>,
+
+    /// Graphs: external field h for --problem ising (default 0).
+    #[arg(long, value_name = "H", allow_negative_numbers = true)]
+    pub field: Option<f64>,
 }
 
 impl NetArgs {
@@ -41,7 +74,44 @@ impl NetArgs {
         if let Some(f) = &self.format {
             Format::from_name(f)?;
         }
+        self.amplitude()?;
+        self.problem()?;
         Ok(())
+    }
+
+    /// The circuit options.
+    fn amplitude(&self) -> Result<AmplitudeSpec> {
+        let open = self
+            .open
+            .as_deref()
+            .map(|o| OpenQubits::parse(o).map_err(|m| Error::usage(format!("--open: {m}"))))
+            .transpose()?;
+        let spec = AmplitudeSpec {
+            bitstring: self.bitstring.clone(),
+            open,
+        };
+        spec.validate().map_err(Error::usage)?;
+        Ok(spec)
+    }
+
+    /// The graph problem, with its parameters checked.
+    pub fn problem(&self) -> Result<Option<GraphProblem>> {
+        GraphProblem::from_flags(
+            self.problem.as_deref(),
+            self.colors,
+            self.beta,
+            self.coupling,
+            self.field,
+        )
+    }
+
+    /// The options for [`formats::load`].
+    pub fn load_options(&self) -> Result<LoadOptions> {
+        Ok(LoadOptions {
+            format: self.format.as_deref().map(Format::from_name).transpose()?,
+            amplitude: self.amplitude()?,
+            problem: self.problem()?,
+        })
     }
 
     /// Reads the network.
@@ -59,9 +129,6 @@ impl NetArgs {
             .net
             .as_ref()
             .ok_or_else(|| Error::usage("give a network file or --einsum"))?;
-        let options = LoadOptions {
-            format: self.format.as_deref().map(Format::from_name).transpose()?,
-        };
-        formats::load(path, &options)
+        formats::load(path, &self.load_options()?)
     }
 }

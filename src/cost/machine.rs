@@ -167,7 +167,7 @@ impl Machine {
 }
 
 /// A time estimate for a sliced contraction on one machine type.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Estimate {
     /// The machine's name.
     pub machine: String,
@@ -180,7 +180,7 @@ pub struct Estimate {
     /// wall seconds x nodes used / 3600.
     pub node_hours: f64,
     /// How the numbers were made.
-    pub method: &'static str,
+    pub method: String,
 }
 
 /// The text that travels with every estimate.
@@ -217,7 +217,7 @@ pub fn estimate(
         wall_seconds: wall,
         nodes_used,
         node_hours: wall * nodes_used as f64 / 3600.0,
-        method: ESTIMATE_METHOD,
+        method: ESTIMATE_METHOD.to_string(),
     }
 }
 

@@ -1,8 +1,15 @@
 //! Network families for demos, tests and benchmarks: lattices of any
 //! dimension, matrix chains, random regular graphs, brickwork circuits.
 //!
-//! These build the structure (tensors, indices, open indices); values are
-//! attached by the model builders where a family has a physical meaning.
+//! The functions here build the structure (tensors, indices, open indices).
+//! Values come from [`values`] (seeded random or ones), [`ising`] (the
+//! Ising model on a lattice) and [`circuit`] (brickwork circuits with gate
+//! values); graph problems on a random regular graph come from
+//! [`crate::formats::graph`].
+
+pub mod circuit;
+pub mod ising;
+pub mod values;
 
 use rand::seq::SliceRandom;
 use rand::SeedableRng;

@@ -7,13 +7,17 @@
 //! (a hash of everything that changes the arithmetic: network fingerprint,
 //! tree, slice set, dtype) is what partial results carry.
 
+pub mod advise;
+
 use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
+use crate::cost::machine::Estimate;
 use crate::error::{line_of_offset, Error, Result};
 use crate::network::{Dtype, IndexId, Network};
+use crate::slicing::{CoverReport, FrontierRow};
 use crate::tree::Tree;
 
 /// The `format` value of a plan file.
@@ -44,6 +48,16 @@ pub struct Predicted {
     pub total_ops_log2: f64,
     /// Total ops with slicing over total ops without.
     pub overhead: f64,
+    /// log2 total ops of the unsliced baseline the overhead is measured
+    /// against.
+    #[serde(default)]
+    pub baseline_total_ops_log2: f64,
+    /// Which search found the slice set (greedy, cover, ...).
+    #[serde(default)]
+    pub found_by: String,
+    /// Where the tree came from.
+    #[serde(default)]
+    pub tree_source: String,
 }
 
 /// A contraction plan.
@@ -79,6 +93,18 @@ pub struct Plan {
     pub seed: u64,
     /// Predicted costs.
     pub predicted: Predicted,
+    /// The slices-versus-ops frontier met by the search.
+    #[serde(default)]
+    pub frontier: Vec<FrontierRow>,
+    /// The cover programme's bound for this tree.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cover: Option<CoverReport>,
+    /// The time estimate on the machine the plan was made for.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub estimate: Option<Estimate>,
+    /// The proven lower bound on width, when computed.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub lower_bound_width: Option<f64>,
 }
 
 impl Plan {
@@ -253,6 +279,10 @@ mod tests {
             slices_at_once: 1,
             seed: 0,
             predicted: Predicted::default(),
+            frontier: Vec::new(),
+            cover: None,
+            estimate: None,
+            lower_bound_width: None,
         }
     }
 

@@ -1,7 +1,10 @@
 //! Rendering results for people (aligned text) and scripts (JSON).
 
+pub mod chart;
+pub mod fit;
 pub mod inspect;
 pub mod plan;
+pub mod steps;
 mod table;
 
 pub use table::Table;
@@ -46,6 +49,9 @@ pub fn group_decimal(s: &str) -> String {
 /// Formats bytes in binary units, e.g. `1.50 GiB`.
 pub fn bytes_human(bytes: f64) -> String {
     const UNITS: [&str; 7] = ["B", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB"];
+    if !bytes.is_finite() || bytes >= 1024f64.powi(7) {
+        return format!("2^{:.2} B", bytes.log2());
+    }
     let mut v = bytes;
     let mut u = 0;
     while v >= 1024.0 && u < UNITS.len() - 1 {

@@ -92,8 +92,7 @@ pub fn find_tree(net: &Network, opts: &SearchOptions) -> Result<SearchResult> {
 
 /// Searches as if the indices in `sliced` had dimension 1 (one slice), as
 /// the slicing stage re-plans a tree for a slice set. The tree is over the
-/// same tensors; the metrics and lower bound are per slice. A natural
-/// [`crate::slicing::Refit`] closure.
+/// same tensors; the metrics and lower bound are per slice.
 pub fn find_tree_sliced(
     net: &Network,
     sliced: &[IndexId],

@@ -63,15 +63,21 @@ pub fn cover(
     let mut log_cap = cap_elements.log2();
     let mut report: Option<CoverReport> = None;
     let mut candidate = None;
+    let start = std::time::Instant::now();
+    let left = || (opts.cover_seconds - start.elapsed().as_secs_f64()).max(0.0);
     for _ in 0..40 {
-        let Some(solved) = solve(sets, &dims, &node_log2, log_cap, opts, false) else {
+        if left() <= 0.0 {
+            break;
+        }
+        let Some(solved) = solve(sets, &dims, &node_log2, log_cap, left(), false) else {
             break;
         };
         if report.is_none() {
             let (bound, optimal) = if solved.optimal {
                 (solved.objective, true)
             } else {
-                let relaxed = solve(sets, &dims, &node_log2, log_cap, opts, true);
+                // The relaxation is fast; give it a fixed allowance.
+                let relaxed = solve(sets, &dims, &node_log2, log_cap, 2.0, true);
                 (relaxed.map(|r| r.objective).unwrap_or(0.0), false)
             };
             report = Some(CoverReport {
@@ -114,7 +120,7 @@ fn solve(
     dims: &Dims,
     node_log2: &[f64],
     log_cap: f64,
-    opts: &SliceOptions,
+    seconds: f64,
     relaxed: bool,
 ) -> Option<Solved> {
     let rows: Vec<(usize, f64)> = node_log2
@@ -160,7 +166,7 @@ fn solve(
     let mut model = vars
         .minimise(objective)
         .using(good_lp::microlp)
-        .with_time_limit(opts.cover_seconds);
+        .with_time_limit(seconds);
     for &(v, need) in &rows {
         let lhs: Expression = sets.indices[v]
             .iter()

@@ -1,13 +1,13 @@
 //! The slices-versus-ops frontier: for slice counts 1, 2, 4, ..., the best
 //! per-slice peak found with at most that many slices, and its total ops.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::Point;
 use crate::num::Count;
 
 /// One row of the frontier.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct FrontierRow {
     /// The bucket: slice sets with at most this many slices (a power of two).
     pub slices_at_most: String,

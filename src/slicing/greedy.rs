@@ -22,9 +22,10 @@
 //! "Classical simulation of intermediate-size quantum circuits", 2018); the
 //! choice among live indices at the binding step is our own rule.
 
-use super::{Point, SliceOptions};
+use super::{Point, Refit, SliceOptions};
 use crate::cost::{Dims, Inputs, NodeSets, PeakModel, Workspace};
 use crate::network::{IndexId, Network};
+use crate::tree::Tree;
 
 /// The greedy trail: the priced start, then one point per round.
 pub fn greedy(
@@ -43,36 +44,7 @@ pub fn greedy(
                 break;
             }
         }
-        if current.slices.log2 >= opts.max_slices_log2 {
-            break;
-        }
-        let dims = Dims::sliced(net, &current.sliced);
-        let mut candidates = binding_indices(sets, &dims, &current.order);
-        candidates.retain(|e| !current.sliced.contains(e) && dims.dim[*e] > 1);
-        if candidates.is_empty() {
-            break;
-        }
-        // Price the candidates on the largest dimensions first.
-        candidates.sort_by(|&a, &b| dims.log2[b].total_cmp(&dims.log2[a]).then(a.cmp(&b)));
-        candidates.truncate(opts.max_candidates);
-        let peak_now = current.per_slice_peak.log2;
-        let mut best: Option<Point> = None;
-        for &e in &candidates {
-            let mut sliced = current.sliced.clone();
-            sliced.push(e);
-            let p = Point::evaluate(sets, net, &sliced, opts);
-            if p.slices.log2 > opts.max_slices_log2 {
-                continue;
-            }
-            let better = match &best {
-                None => true,
-                Some(b) => rank(&p, peak_now) < rank(b, peak_now),
-            };
-            if better {
-                best = Some(p);
-            }
-        }
-        match best {
+        match step(sets, net, opts, current) {
             Some(p) => trail.push(p),
             None => break,
         }
@@ -80,13 +52,107 @@ pub fn greedy(
     trail
 }
 
-/// Orders candidates: those that lower the peak first, then by total ops,
-/// then by peak.
-fn rank(p: &Point, peak_now: f64) -> (bool, i64, i64) {
-    let lowers = p.per_slice_peak.log2 < peak_now - 1e-12;
+/// One greedy round from `current`: the best index to add, priced; `None`
+/// when no index can be added.
+pub fn step(sets: &NodeSets, net: &Network, opts: &SliceOptions, current: &Point) -> Option<Point> {
+    if current.slices.log2 >= opts.max_slices_log2 {
+        return None;
+    }
+    let dims = Dims::sliced(net, &current.sliced);
+    let mut candidates = binding_indices(sets, &dims, &current.order);
+    candidates.retain(|e| !current.sliced.contains(e) && dims.dim[*e] > 1);
+    // Price the candidates touching the most live elements first.
+    candidates.truncate(opts.max_candidates);
+    let now = (current.per_slice_peak.log2, current.total_ops.log2);
+    let mut best: Option<Point> = None;
+    for &e in &candidates {
+        let mut sliced = current.sliced.clone();
+        sliced.push(e);
+        let p = Point::evaluate(sets, net, &sliced, opts);
+        if p.slices.log2 > opts.max_slices_log2 {
+            continue;
+        }
+        if best
+            .as_ref()
+            .is_none_or(|b| rank(&p, now, opts.rule) < rank(b, now, opts.rule))
+        {
+            best = Some(p);
+        }
+    }
+    best
+}
+
+/// Greedy slicing that re-plans the tree after every index it adds (at most
+/// `max_refits` times), keeping the new tree when it lowers the per-slice
+/// peak, or keeps it and lowers the total ops. Returns every point with the
+/// tree it was priced on, the last one pruned.
+pub fn interleaved(
+    net: &Network,
+    tree: &Tree,
+    opts: &SliceOptions,
+    refit: &mut Refit<'_>,
+    max_refits: usize,
+) -> Vec<(Point, Tree)> {
+    let mut tree = tree.clone();
+    let mut sets = NodeSets::new(net, &tree);
+    let mut current = Point::evaluate(&sets, net, &[], opts);
+    let mut out = Vec::new();
+    let mut refits = 0;
+    while !current.fits(opts) {
+        let Some(mut next) = step(&sets, net, opts, &current) else {
+            break;
+        };
+        if refits < max_refits {
+            refits += 1;
+            // Ask for the fewest ops at no more than the width just reached.
+            if let Some(other) = refit(net, &next.sliced, next.per_slice_width) {
+                let other_sets = NodeSets::new(net, &other);
+                let p = Point::evaluate(&other_sets, net, &next.sliced, opts);
+                let lower_peak = p.per_slice_peak.log2 < next.per_slice_peak.log2 - 1e-9;
+                let same_peak = p.per_slice_peak.log2 <= next.per_slice_peak.log2 + 1e-9;
+                if lower_peak || (same_peak && p.total_ops.log2 < next.total_ops.log2 - 1e-9) {
+                    tree = other;
+                    sets = other_sets;
+                    next = p;
+                }
+            }
+        }
+        out.push((next.clone(), tree.clone()));
+        current = next;
+    }
+    if current.fits(opts) {
+        out.push((prune(&sets, net, opts, &current), tree));
+    }
+    out
+}
+
+/// Orders candidates (smaller is better): those that lower the peak first;
+/// among them, by the rule; then by peak.
+fn rank(p: &Point, (peak_now, ops_now): (f64, f64), rule: GreedyRule) -> (bool, i64, i64) {
+    let lowered = peak_now - p.per_slice_peak.log2;
+    let lowers = lowered > 1e-12;
     // Quantise so that near-equal floats compare equal and ties fall to peak.
     let q = |x: f64| (x * 1e9).round() as i64;
-    (!lowers, q(p.total_ops.log2), q(p.per_slice_peak.log2))
+    let score = match rule {
+        GreedyRule::LeastOps => p.total_ops.log2,
+        // Extra ops (log2) paid per halving of the peak; a small constant
+        // keeps free reductions ordered by how much they lower the peak.
+        GreedyRule::OpsPerHalving if lowers => (p.total_ops.log2 - ops_now + 1e-3) / lowered,
+        GreedyRule::OpsPerHalving => p.total_ops.log2,
+    };
+    (!lowers, q(score), q(p.per_slice_peak.log2))
+}
+
+/// How the greedy picks among the indices live at the binding step.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum GreedyRule {
+    /// The index whose slicing costs the fewest extra ops per halving of the
+    /// per-slice peak.
+    #[default]
+    OpsPerHalving,
+    /// The index that gives the smallest total ops after slicing (among
+    /// those that lower the peak).
+    LeastOps,
 }
 
 /// Drops indices, latest first, while the slice set still fits.
@@ -103,7 +169,8 @@ pub fn prune(sets: &NodeSets, net: &Network, opts: &SliceOptions, point: &Point)
 }
 
 /// The indices of every tensor live when the executor's per-slice peak is
-/// reached, running the merges in `order`.
+/// reached, running the merges in `order`, those touching the most live
+/// elements first.
 pub fn binding_indices(sets: &NodeSets, dims: &Dims, order: &[usize]) -> Vec<IndexId> {
     let model = PeakModel::EXECUTOR;
     debug_assert_eq!(
@@ -163,15 +230,22 @@ pub fn binding_indices(sets: &NodeSets, dims: &Dims, order: &[usize]) -> Vec<Ind
         live[b] = false;
         live[n + k] = true;
     }
-    let mut out: Vec<IndexId> = live
+    // Weight each index by the elements of the live tensors it touches:
+    // slicing it shrinks exactly those.
+    let mut weight: std::collections::HashMap<IndexId, f64> = std::collections::HashMap::new();
+    let nodes = live
         .iter()
         .enumerate()
         .filter(|&(_, &l)| l)
         .map(|(v, _)| v)
-        .chain(at)
-        .flat_map(|v| sets.indices[v].iter().copied())
-        .collect();
-    out.sort_unstable();
-    out.dedup();
-    out
+        .chain(at);
+    for v in nodes {
+        let s = size(v);
+        for &e in &sets.indices[v] {
+            *weight.entry(e).or_insert(0.0) += s;
+        }
+    }
+    let mut out: Vec<(IndexId, f64)> = weight.into_iter().collect();
+    out.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(&b.0)));
+    out.into_iter().map(|(e, _)| e).collect()
 }

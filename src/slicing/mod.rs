@@ -31,7 +31,7 @@ pub mod greedy;
 
 use serde::Serialize;
 
-use crate::cost::memory::{memory_need, MemoryNeed};
+use crate::cost::memory::{inputs_bytes, output_bytes, MemoryNeed};
 use crate::cost::{NodeSets, PeakModel};
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::Count;
@@ -56,8 +56,10 @@ pub struct SliceOptions {
     pub max_candidates: usize,
     /// Run the cover programme.
     pub cover: bool,
-    /// Seconds the cover programme may take per solve.
+    /// Seconds the cover programme may take in all.
     pub cover_seconds: f64,
+    /// How the greedy picks the next index.
+    pub rule: greedy::GreedyRule,
 }
 
 impl SliceOptions {
@@ -72,6 +74,7 @@ impl SliceOptions {
             max_candidates: 48,
             cover: true,
             cover_seconds: 5.0,
+            rule: greedy::GreedyRule::default(),
         }
     }
 }
@@ -113,7 +116,12 @@ impl Point {
             per_slice_width: s.per_slice.width,
             per_slice_peak: s.per_slice.peak,
             total_ops: s.total_ops,
-            need: memory_need(sets, net, sliced, opts.dtype, opts.slices_at_once),
+            need: MemoryNeed {
+                inputs_bytes: inputs_bytes(net, opts.dtype),
+                output_bytes: output_bytes(net, opts.dtype),
+                per_slice_peak_bytes: s.per_slice.peak.to_f64() * opts.dtype.bytes() as f64,
+                slices_at_once: opts.slices_at_once,
+            },
             order: s.per_slice.order,
         }
     }
@@ -130,7 +138,7 @@ impl Point {
 }
 
 /// Where a candidate slice set came from.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Origin {
     /// No slicing.
@@ -146,7 +154,7 @@ pub enum Origin {
 }
 
 /// What the cover programme proved and proposed.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, serde::Deserialize)]
 pub struct CoverReport {
     /// Largest tensor (elements) a slice may hold under the budget.
     pub cap_elements: f64,
@@ -183,9 +191,10 @@ pub struct SliceResult {
     pub cover: Option<CoverReport>,
 }
 
-/// Re-plans a tree for the network with the given indices sliced; returns
-/// `None` when it finds nothing.
-pub type Refit<'a> = dyn FnMut(&Network, &[IndexId]) -> Option<Tree> + 'a;
+/// Re-plans a tree for the network with the given indices sliced, for the
+/// least total ops among trees of at most the given width; returns `None`
+/// when it finds nothing.
+pub type Refit<'a> = dyn FnMut(&Network, &[IndexId], f64) -> Option<Tree> + 'a;
 
 /// A priced slice set, where it came from, and which tree it is on.
 struct Seen {
@@ -196,8 +205,8 @@ struct Seen {
 
 /// Finds a slice set that fits the budget, starting from `tree`.
 ///
-/// With `refit`, alternates greedy slicing and tree re-planning while the
-/// total ops improve (at most `rounds` re-plans).
+/// With `refit`, also runs the greedy that re-plans the tree after each
+/// index it adds (at most `rounds` re-plans).
 pub fn find_slices(
     net: &Network,
     tree: &Tree,
@@ -240,34 +249,20 @@ pub fn find_slices(
         Origin::Exhaustive,
         0,
     );
-    // Co-optimisation: re-plan the tree for the sliced network, continue the
-    // greedy there, keep it while the total ops improve.
-    if let (Some(refit), Some(mut best)) = (refit.as_mut(), first_fit) {
-        for _ in 0..rounds {
-            if best.sliced.is_empty() {
-                break;
+    // Co-optimisation: slice one index at a time and re-plan the tree for
+    // the sliced network after each.
+    if let Some(refit) = refit.as_mut() {
+        if !unsliced.fits(opts) {
+            for (point, t) in greedy::interleaved(net, tree, opts, &mut **refit, rounds) {
+                let id = match trees.iter().position(|x| *x == t) {
+                    Some(id) => id,
+                    None => {
+                        trees.push(t);
+                        trees.len() - 1
+                    }
+                };
+                add(&mut seen, vec![point], Origin::Cooptimised, id);
             }
-            let Some(candidate_tree) = refit(net, &best.sliced) else {
-                break;
-            };
-            let cand_sets = NodeSets::new(net, &candidate_tree);
-            let trail = greedy::greedy(&cand_sets, net, opts, &best.sliced);
-            let Some(fit) = trail
-                .iter()
-                .find(|p| p.fits(opts))
-                .map(|p| greedy::prune(&cand_sets, net, opts, p))
-            else {
-                break;
-            };
-            let improved = fit.total_ops.log2 < best.total_ops.log2 - 1e-9;
-            trees.push(candidate_tree);
-            let t = trees.len() - 1;
-            add(&mut seen, trail, Origin::Cooptimised, t);
-            add(&mut seen, vec![fit.clone()], Origin::Cooptimised, t);
-            if !improved {
-                break;
-            }
-            best = fit;
         }
     }
     // The cover programme runs on the tree of the best set so far.

@@ -1,0 +1,183 @@
+//! Which chunks of a job directory are done, and a script for the rest.
+//!
+//! A chunk is done when its partial file exists and is not empty. Checking
+//! the partial's fingerprint and checksum is `gather`'s work (the partial
+//! reader lives with the executor); here a partial that is present counts.
+//! For a chunk that is not done, the task's log files tell what happened:
+//! an exit-code file means the task ended (with that code), an output log
+//! without one means it started and is still running or was killed by the
+//! scheduler (time or memory limit), no log means it never started.
+
+use std::path::{Path, PathBuf};
+
+use serde::Serialize;
+
+use super::array::array_spec;
+use super::manifest::{read_manifest, Manifest};
+use super::quote::{pattern_dir, script_path};
+use super::scripts::{sbatch_script, ScriptPaths};
+use super::write::write_script;
+use super::RESUBMIT_FILE;
+use crate::error::{Error, Result};
+
+/// What is known about one chunk.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(tag = "state", rename_all = "snake_case")]
+pub enum ChunkState {
+    /// Its partial file is present.
+    Done,
+    /// The task ended with a non-zero exit code.
+    Failed {
+        /// The exit code `sliceplan run` returned.
+        exit_code: i64,
+    },
+    /// The task ended with exit code 0, but its partial is gone.
+    Lost,
+    /// The task started and has not ended: still running, or killed by the
+    /// scheduler before it could record an exit code.
+    Started,
+    /// No task for it has started.
+    NotStarted,
+}
+
+/// One chunk that is not done.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct MissingChunk {
+    /// Chunk id.
+    pub id: u64,
+    /// Its slices (half-open).
+    pub first_slice: u64,
+    /// One past its last slice.
+    pub end_slice: u64,
+    /// What is known.
+    #[serde(flatten)]
+    pub state: ChunkState,
+}
+
+/// The state of a job directory.
+#[derive(Debug, Clone, Serialize)]
+pub struct JobStatus {
+    /// The job directory.
+    pub dir: PathBuf,
+    /// The plan file.
+    pub plan: String,
+    /// The plan's fingerprint.
+    pub plan_fingerprint: String,
+    /// Number of chunks.
+    pub chunks: u64,
+    /// Number of chunks done.
+    pub done: u64,
+    /// Ids of the chunks not done, ascending.
+    pub missing: Vec<u64>,
+    /// What is known about each missing chunk.
+    pub missing_detail: Vec<MissingChunk>,
+}
+
+/// True when a partial counts as present (exists, is a file, not empty).
+pub fn partial_present(path: &Path) -> bool {
+    std::fs::metadata(path)
+        .map(|m| m.is_file() && m.len() > 0)
+        .unwrap_or(false)
+}
+
+/// Reads the state of the job directory `dir`. The plan must still be the
+/// one the jobs were written for.
+pub fn job_status(dir: &Path) -> Result<JobStatus> {
+    let m = read_manifest(dir)?;
+    check_plan_unchanged(&m)?;
+    let logs = dir.join(&m.logs_dir);
+    let mut missing_detail = Vec::new();
+    for c in &m.chunk_list {
+        if partial_present(&m.partial_path(dir, c)) {
+            continue;
+        }
+        let exit = std::fs::read_to_string(logs.join(format!("chunk-{}.exit", c.id)))
+            .ok()
+            .and_then(|t| t.trim().parse::<i64>().ok());
+        let state = match exit {
+            Some(0) => ChunkState::Lost,
+            Some(code) => ChunkState::Failed { exit_code: code },
+            None if logs.join(format!("chunk-{}.out", c.id)).exists() => ChunkState::Started,
+            None => ChunkState::NotStarted,
+        };
+        missing_detail.push(MissingChunk {
+            id: c.id,
+            first_slice: c.first_slice,
+            end_slice: c.end_slice,
+            state,
+        });
+    }
+    let missing: Vec<u64> = missing_detail.iter().map(|c| c.id).collect();
+    Ok(JobStatus {
+        dir: dir.to_path_buf(),
+        plan: m.plan.clone(),
+        plan_fingerprint: m.plan_fingerprint.clone(),
+        chunks: m.chunks,
+        done: m.chunks - missing.len() as u64,
+        missing,
+        missing_detail,
+    })
+}
+
+fn check_plan_unchanged(m: &Manifest) -> Result<()> {
+    let plan = crate::plan::read_plan(Path::new(&m.plan))?;
+    let fp = plan.fingerprint();
+    if fp != m.plan_fingerprint {
+        return Err(Error::in_source(
+            &m.plan,
+            format!(
+                "the plan's fingerprint is now {fp}, but the jobs were written for {}; partials of the two cannot be mixed: write the jobs again into a new directory",
+                m.plan_fingerprint
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Writes `DIR/resubmit.sbatch`: the job array of `DIR/submit.sbatch`
+/// restricted to the chunk ids in `ids` (`--array=3,17,42`), and returns
+/// its path. The ids must be chunks of the manifest; at least one.
+pub fn write_resubmit(dir: &Path, ids: &[u64]) -> Result<PathBuf> {
+    let m = read_manifest(dir)?;
+    if ids.is_empty() {
+        return Err(Error::usage(
+            "nothing to resubmit: give at least one chunk id",
+        ));
+    }
+    if let Some(bad) = ids.iter().find(|&&i| i >= m.chunks) {
+        return Err(Error::usage(format!(
+            "chunk {bad} is not in {}: its chunks are 0 to {}",
+            dir.join(super::MANIFEST_FILE).display(),
+            m.chunks - 1
+        )));
+    }
+    let abs = std::fs::canonicalize(dir).map_err(|e| Error::read(dir, e))?;
+    let paths = ScriptPaths {
+        dir: pattern_dir("job directory", &abs)?,
+        plan: script_path("plan", Path::new(&m.plan))?,
+        binary: script_path("binary", Path::new(&m.task.binary))?,
+    };
+    let array = array_spec(ids, m.task.max_running);
+    let mut unique = ids.to_vec();
+    unique.sort_unstable();
+    unique.dedup();
+    let what = format!("resubmission of {} chunk(s)", unique.len());
+    let text = sbatch_script(&m, &paths, &array, &what, RESUBMIT_FILE);
+    write_script(&abs.join(RESUBMIT_FILE), &text)
+}
+
+/// Brings `DIR/resubmit.sbatch` in line with `status`: written for the
+/// missing chunks, or removed when none is missing. Returns the script
+/// when one was written.
+pub fn refresh_resubmit(dir: &Path, status: &JobStatus) -> Result<Option<PathBuf>> {
+    if status.missing.is_empty() {
+        let stale = dir.join(RESUBMIT_FILE);
+        match std::fs::remove_file(&stale) {
+            Ok(()) => {}
+            Err(e) if e.kind() == std::io::ErrorKind::NotFound => {}
+            Err(e) => return Err(Error::write(&stale, e)),
+        }
+        return Ok(None);
+    }
+    write_resubmit(dir, &status.missing).map(Some)
+}

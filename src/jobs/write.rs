@@ -1,0 +1,278 @@
+//! From a plan to a job directory: choose the chunks, size the tasks, and
+//! write the manifest, the job-array script and the local runner.
+
+use std::path::{Path, PathBuf};
+
+use serde::Serialize;
+
+use super::array::array_spec;
+use super::manifest::{read_manifest, write_manifest, ChunkEntry, Manifest, TaskSettings};
+use super::manifest::{MANIFEST_FORMAT, MANIFEST_VERSION};
+use super::quote::{pattern_dir, plain_value, script_path};
+use super::resources::{mem_request, time_request, MemChoice, TimeChoice};
+use super::scripts::{local_script, sbatch_script, ScriptPaths};
+use super::{chunk_range, partial_file_name, LOCAL_FILE, LOGS_DIR, PARTIALS_DIR, SUBMIT_FILE};
+use crate::cost::memory::MemoryNeed;
+use crate::error::{Error, Result};
+use crate::plan::Plan;
+
+/// Chunks made when neither a count nor a size is given (at most one slice
+/// each): 1000 keeps array ids within Slurm's default `MaxArraySize` (1001).
+pub const DEFAULT_MAX_CHUNKS: u64 = 1000;
+/// The most chunks one job directory may hold.
+pub const MAX_CHUNKS: u64 = 1_000_000;
+/// Largest array index a Slurm cluster accepts with its default
+/// `MaxArraySize` of 1001.
+pub const SLURM_DEFAULT_MAX_ARRAY_INDEX: u64 = 1000;
+
+/// How the slices are cut into chunks.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ChunkChoice {
+    /// One slice per chunk, up to [`DEFAULT_MAX_CHUNKS`] chunks.
+    Default,
+    /// Exactly this many chunks.
+    Count(u64),
+    /// Chunks of at most this many slices.
+    SlicesPerTask(u64),
+}
+
+/// What `sliceplan jobs` was asked for.
+#[derive(Debug, Clone, PartialEq)]
+pub struct JobOptions {
+    /// How to cut the slices.
+    pub chunks: ChunkChoice,
+    /// Tasks running at once at most (`%M`).
+    pub max_running: Option<u64>,
+    /// Slurm partition.
+    pub partition: Option<String>,
+    /// Slurm account.
+    pub account: Option<String>,
+    /// Time per task.
+    pub time: TimeChoice,
+    /// Memory per task.
+    pub mem: MemChoice,
+    /// CPUs per task (default: the plan's slices at once).
+    pub cpus_per_task: Option<u64>,
+    /// The `sliceplan` binary the tasks run.
+    pub binary: PathBuf,
+}
+
+impl JobOptions {
+    /// Checks the values that need no file.
+    pub fn check(&self) -> Result<()> {
+        match self.chunks {
+            ChunkChoice::Count(0) => return Err(Error::usage("--chunks must be at least 1")),
+            ChunkChoice::SlicesPerTask(0) => {
+                return Err(Error::usage("--slices-per-task must be at least 1"))
+            }
+            _ => {}
+        }
+        if self.max_running == Some(0) {
+            return Err(Error::usage("--max-running must be at least 1"));
+        }
+        if self.cpus_per_task == Some(0) {
+            return Err(Error::usage("--cpus-per-task must be at least 1"));
+        }
+        if let Some(p) = &self.partition {
+            plain_value("--partition", p)?;
+        }
+        if let Some(a) = &self.account {
+            plain_value("--account", a)?;
+        }
+        script_path("--binary", &self.binary)?;
+        Ok(())
+    }
+}
+
+/// What [`write_jobs`] wrote.
+#[derive(Debug, Clone, Serialize)]
+pub struct WrittenJobs {
+    /// The job directory (absolute).
+    pub dir: PathBuf,
+    /// The manifest written there.
+    pub manifest: Manifest,
+    /// The `--array` value of `submit.sbatch`.
+    pub array: String,
+    /// The files written, in order: manifest, job array, local runner.
+    pub files: Vec<PathBuf>,
+    /// Things the user should know (e.g. array size limits).
+    pub notes: Vec<String>,
+}
+
+/// The number of chunks for `slices` slices.
+pub fn chunk_count(slices: u64, choice: ChunkChoice) -> Result<u64> {
+    let n = match choice {
+        ChunkChoice::Default => slices.min(DEFAULT_MAX_CHUNKS),
+        ChunkChoice::Count(n) if n > slices => {
+            return Err(Error::usage(format!(
+                "--chunks {n}: the plan has only {slices} slice(s); give 1 to {slices}"
+            )))
+        }
+        ChunkChoice::Count(n) => n,
+        ChunkChoice::SlicesPerTask(k) => slices.div_ceil(k),
+    };
+    if n > MAX_CHUNKS {
+        return Err(Error::usage(format!(
+            "{n} chunks is more than the {MAX_CHUNKS} one job directory holds; give --chunks or a larger --slices-per-task"
+        )));
+    }
+    Ok(n.max(1))
+}
+
+/// Writes `out/manifest.toml`, `out/submit.sbatch` and `out/run-local.sh`
+/// for `plan` (read from `plan_path`), whose process needs `need`, and
+/// creates `out/partials` and `out/logs`.
+pub fn write_jobs(
+    plan_path: &Path,
+    plan: &Plan,
+    need: &MemoryNeed,
+    opts: &JobOptions,
+    out: &Path,
+) -> Result<WrittenJobs> {
+    opts.check()?;
+    let slices = plan
+        .slice_count()
+        .filter(|&s| s <= i64::MAX as u64)
+        .ok_or_else(|| {
+            Error::Cannot("the plan has more than 2^63 slices; no job array can number them".into())
+        })?;
+    let chunks = chunk_count(slices, opts.chunks)?;
+    let cpus = opts.cpus_per_task.unwrap_or(plan.slices_at_once.max(1));
+    let mem = mem_request(need, opts.mem)?;
+    let longest = chunk_range(slices, 0, chunks);
+    let parallel = plan.slices_at_once.max(1).min(cpus);
+    let seconds_per_slice = plan.estimate.as_ref().map(|e| e.seconds_per_slice);
+    let time = time_request(
+        opts.time,
+        seconds_per_slice,
+        longest.end - longest.start,
+        parallel,
+    )?;
+    let mut notes = Vec::new();
+    let binary = resolve_binary(&opts.binary, &mut notes)?;
+    let plan_abs = std::fs::canonicalize(plan_path).map_err(|e| Error::read(plan_path, e))?;
+    std::fs::create_dir_all(out).map_err(|e| Error::write(out, e))?;
+    let dir = std::fs::canonicalize(out).map_err(|e| Error::write(out, e))?;
+    let paths = ScriptPaths {
+        dir: pattern_dir("--out", &dir)?,
+        plan: script_path("PLAN", &plan_abs)?,
+        binary,
+    };
+    let fingerprint = plan.fingerprint();
+    refuse_other_plans_partials(&dir, &fingerprint)?;
+    if chunks - 1 > SLURM_DEFAULT_MAX_ARRAY_INDEX {
+        notes.push(format!(
+            "array ids run to {}; Slurm's default MaxArraySize (1001) allows ids up to {SLURM_DEFAULT_MAX_ARRAY_INDEX}, so check `scontrol show config | grep MaxArraySize` or use fewer chunks",
+            chunks - 1
+        ));
+    }
+    let manifest = Manifest {
+        format: MANIFEST_FORMAT.into(),
+        version: MANIFEST_VERSION,
+        tool_version: env!("CARGO_PKG_VERSION").into(),
+        plan: paths.plan.clone(),
+        plan_fingerprint: fingerprint.clone(),
+        slices,
+        chunks,
+        partials_dir: PARTIALS_DIR.into(),
+        logs_dir: LOGS_DIR.into(),
+        task: TaskSettings {
+            binary: paths.binary.clone(),
+            job_name: format!("sliceplan-{}", &fingerprint[..fingerprint.len().min(8)]),
+            cpus_per_task: cpus,
+            max_running: opts.max_running,
+            partition: opts.partition.clone(),
+            account: opts.account.clone(),
+            mem,
+            time,
+        },
+        chunk_list: (0..chunks)
+            .map(|i| {
+                let r = chunk_range(slices, i, chunks);
+                ChunkEntry {
+                    id: i,
+                    first_slice: r.start,
+                    end_slice: r.end,
+                    partial: format!("{PARTIALS_DIR}/{}", partial_file_name(i, chunks)),
+                }
+            })
+            .collect(),
+    };
+    for sub in [PARTIALS_DIR, LOGS_DIR] {
+        let d = dir.join(sub);
+        std::fs::create_dir_all(&d).map_err(|e| Error::write(&d, e))?;
+    }
+    let array = array_spec(&(0..chunks).collect::<Vec<_>>(), opts.max_running);
+    let mut files = vec![write_manifest(&dir, &manifest)?];
+    let submit = sbatch_script(&manifest, &paths, &array, "all chunks", SUBMIT_FILE);
+    files.push(write_script(&dir.join(SUBMIT_FILE), &submit)?);
+    files.push(write_script(
+        &dir.join(LOCAL_FILE),
+        &local_script(&manifest, &paths),
+    )?);
+    Ok(WrittenJobs {
+        dir,
+        manifest,
+        array,
+        files,
+        notes,
+    })
+}
+
+/// The binary as an absolute path the scripts can carry.
+fn resolve_binary(binary: &Path, notes: &mut Vec<String>) -> Result<String> {
+    match std::fs::canonicalize(binary) {
+        Ok(abs) => script_path("--binary", &abs),
+        Err(_) if binary.is_absolute() => {
+            notes.push(format!(
+                "--binary {} does not exist on this machine; the tasks will need it where they run",
+                binary.display()
+            ));
+            script_path("--binary", binary)
+        }
+        Err(e) => Err(Error::usage(format!(
+            "--binary {}: {e}; give the path of a sliceplan binary",
+            binary.display()
+        ))),
+    }
+}
+
+/// Writes a script atomically and makes it executable.
+pub(crate) fn write_script(path: &Path, text: &str) -> Result<PathBuf> {
+    crate::io::write_atomic(path, text.as_bytes())?;
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o755))
+            .map_err(|e| Error::write(path, e))?;
+    }
+    Ok(path.to_path_buf())
+}
+
+/// A job directory that already holds partials of another plan is not
+/// reused: mixing them would only be caught at gather time.
+fn refuse_other_plans_partials(dir: &Path, fingerprint: &str) -> Result<()> {
+    let Ok(old) = read_manifest(dir) else {
+        return Ok(());
+    };
+    if old.plan_fingerprint == fingerprint {
+        return Ok(());
+    }
+    let partials = dir.join(&old.partials_dir);
+    let has_partials = std::fs::read_dir(&partials)
+        .map(|entries| {
+            entries
+                .filter_map(|e| e.ok())
+                .any(|e| e.file_name().to_string_lossy().ends_with(".partial"))
+        })
+        .unwrap_or(false);
+    if has_partials {
+        return Err(Error::Cannot(format!(
+            "{} already holds partials of plan {} (this plan is {fingerprint}); choose another --out or remove {}",
+            dir.display(),
+            old.plan_fingerprint,
+            partials.display()
+        )));
+    }
+    Ok(())
+}

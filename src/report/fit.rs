@@ -1,0 +1,481 @@
+//! The fit report shared by `fit`, `plan` and `report`: the verdict, the
+//! chosen slice set, the frontier, estimates, and one row per machine.
+
+use serde::Serialize;
+
+use super::inspect::TreeReport;
+use super::plan::SearchReport;
+use super::{bytes_human, group_decimal, log2_str, Table};
+use crate::cost::machine::{Estimate, ESTIMATE_METHOD};
+use crate::cost::memory::MemoryNeed;
+use crate::network::{Dtype, Network, Summary};
+use crate::plan::advise::Advice;
+use crate::search::WidthBound;
+use crate::slicing::{CoverReport, FrontierRow, Origin};
+
+/// The chosen slice set as it appears in JSON (`slicing.*`).
+#[derive(Debug, Clone, Serialize)]
+pub struct SlicingReport {
+    /// Names of the sliced indices.
+    pub indices: Vec<String>,
+    /// Their dimensions.
+    pub dims: Vec<u64>,
+    /// Number of slices, decimal.
+    pub slices: String,
+    /// log2 of the number of slices.
+    pub slices_log2: f64,
+    /// Metrics of one slice.
+    pub per_slice: PerSlice,
+    /// Total ops over all slices, decimal (or `2^x`).
+    pub total_ops: String,
+    /// log2 of the total ops over all slices.
+    pub total_ops_log2: f64,
+    /// Total ops with slicing over total ops without.
+    pub overhead: f64,
+    /// Which search found it.
+    pub found_by: Origin,
+    /// The fewest slices of any fitting set found, decimal.
+    pub fewest_slices_found: Option<String>,
+}
+
+/// Per-slice metrics.
+#[derive(Debug, Clone, Serialize)]
+pub struct PerSlice {
+    /// log2 of the total ops of one slice.
+    pub total_ops_log2: f64,
+    /// Width of one slice.
+    pub width: f64,
+    /// Peak bytes of one slice (executor model, workspace included).
+    pub peak_bytes: f64,
+}
+
+/// One row of the machine comparison.
+#[derive(Debug, Clone, Serialize)]
+pub struct MachineRow {
+    /// Machine (or budget) label.
+    pub target: String,
+    /// Bytes a process may use there.
+    pub budget_bytes: u64,
+    /// Slices a process runs at once there.
+    pub slices_at_once: u64,
+    /// Fits without slicing?
+    pub fits_without_slicing: bool,
+    /// Fits at all?
+    pub fits: bool,
+    /// Slices needed, decimal (absent when it cannot fit).
+    pub slices: Option<String>,
+    /// Overhead of the chosen slicing.
+    pub overhead: Option<f64>,
+    /// The time estimate, when the target is a machine.
+    pub estimate: Option<Estimate>,
+}
+
+/// Everything `fit` and `plan` print.
+#[derive(Debug, Clone, Serialize)]
+pub struct FitReport {
+    /// The network summary.
+    pub network: Summary,
+    /// The tree's unsliced metrics.
+    pub tree: TreeReport,
+    /// The proven lower bound on width, when computed.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lower_bound: Option<WidthBound>,
+    /// How the tree search went, when there was one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub search: Option<SearchReport>,
+    /// Bytes one process may use.
+    pub budget_bytes: u64,
+    /// Element type.
+    pub dtype: Dtype,
+    /// Bytes per element.
+    pub bytes_per_element: u64,
+    /// Slices one process runs at once.
+    pub slices_at_once: u64,
+    /// Does the contraction fit without slicing?
+    pub fits_without_slicing: bool,
+    /// Does it fit at all (with the chosen slicing)?
+    pub fits: bool,
+    /// One sentence answering "will it fit".
+    pub verdict: String,
+    /// What a process needs with the chosen slicing (or unsliced when
+    /// nothing fits).
+    pub memory: MemoryReport,
+    /// The smallest budget that works with any slice set found, when it
+    /// cannot fit.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub smallest_budget_bytes: Option<f64>,
+    /// The chosen slice set.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub slicing: Option<SlicingReport>,
+    /// Best points by slice count.
+    pub frontier: Vec<FrontierRow>,
+    /// The cover programme's bound.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cover: Option<CoverReport>,
+    /// The time estimate on the first machine.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub estimate: Option<Estimate>,
+    /// One row per target when several were given.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub machines: Vec<MachineRow>,
+}
+
+/// Process memory by part, bytes.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct MemoryReport {
+    /// Full input tensors.
+    pub inputs_bytes: f64,
+    /// Output accumulator.
+    pub output_bytes: f64,
+    /// One slice's peak.
+    pub per_slice_peak_bytes: f64,
+    /// The total for the slices running at once.
+    pub process_bytes: f64,
+}
+
+impl From<MemoryNeed> for MemoryReport {
+    fn from(m: MemoryNeed) -> Self {
+        MemoryReport {
+            inputs_bytes: m.inputs_bytes,
+            output_bytes: m.output_bytes,
+            per_slice_peak_bytes: m.per_slice_peak_bytes,
+            process_bytes: m.total_bytes(),
+        }
+    }
+}
+
+impl FitReport {
+    /// Builds the report; the first advice is the headline, every advice
+    /// gets a comparison row when there are several.
+    pub fn new(
+        net: &Network,
+        tree: TreeReport,
+        lower_bound: Option<WidthBound>,
+        search: Option<SearchReport>,
+        dtype: Dtype,
+        advice: &[Advice],
+    ) -> FitReport {
+        let head = &advice[0];
+        let r = &head.result;
+        let fits_without = head.fits_without_slicing();
+        let slicing = r
+            .chosen
+            .as_ref()
+            .filter(|(p, _)| !p.sliced.is_empty())
+            .map(|(p, origin)| SlicingReport {
+                indices: p
+                    .sliced
+                    .iter()
+                    .map(|&e| net.indices[e].name.clone())
+                    .collect(),
+                dims: p.sliced.iter().map(|&e| net.indices[e].dim).collect(),
+                slices: p.slices.to_json_string(),
+                slices_log2: p.slices.log2,
+                per_slice: PerSlice {
+                    total_ops_log2: p.per_slice_total_ops.log2,
+                    width: p.per_slice_width,
+                    peak_bytes: p.need.per_slice_peak_bytes,
+                },
+                total_ops: p.total_ops.to_json_string(),
+                total_ops_log2: p.total_ops.log2,
+                overhead: (p.total_ops.log2 - r.unsliced.total_ops.log2).exp2(),
+                found_by: *origin,
+                fewest_slices_found: r.fewest_slices.as_ref().map(|f| f.slices.to_json_string()),
+            });
+        let need = r
+            .chosen
+            .as_ref()
+            .map(|(p, _)| p.need)
+            .unwrap_or(r.unsliced.need);
+        let budget = head.target.budget_bytes;
+        let verdict = verdict(head, fits_without, budget);
+        let machines = if advice.len() > 1 {
+            advice.iter().map(machine_row).collect()
+        } else {
+            Vec::new()
+        };
+        FitReport {
+            network: Summary::of(net),
+            tree,
+            lower_bound,
+            search,
+            budget_bytes: budget,
+            dtype,
+            bytes_per_element: dtype.bytes(),
+            slices_at_once: head.target.slices_at_once,
+            fits_without_slicing: fits_without,
+            fits: r.chosen.is_some(),
+            verdict,
+            memory: need.into(),
+            smallest_budget_bytes: r.chosen.is_none().then_some(r.smallest_need_bytes),
+            slicing,
+            frontier: r.frontier.clone(),
+            cover: r.cover.clone(),
+            estimate: head.estimate.clone(),
+            machines,
+        }
+    }
+
+    /// The frontier as CSV.
+    pub fn frontier_csv(&self) -> String {
+        let mut out = String::from(
+            "slices_at_most,slices,per_slice_peak_bytes,process_bytes,total_ops_log2,overhead\n",
+        );
+        for r in &self.frontier {
+            out.push_str(&format!(
+                "{},{},{:.0},{:.0},{:.6},{:.6}\n",
+                r.slices_at_most,
+                r.slices,
+                r.per_slice_peak_bytes,
+                r.process_bytes,
+                r.total_ops_log2,
+                r.overhead
+            ));
+        }
+        out
+    }
+
+    /// Renders the one-screen answer.
+    pub fn to_text(&self) -> String {
+        let n = &self.network;
+        let t = &self.tree;
+        let mut out = String::new();
+        out.push_str(&format!(
+            "network   {} ({} tensors, {} indices, fingerprint {})\n",
+            n.name, n.tensors, n.indices, n.fingerprint
+        ));
+        let bound = self
+            .lower_bound
+            .map(|b| format!("; no tree has width below {}", log2_str(b.width)))
+            .unwrap_or_default();
+        out.push_str(&format!(
+            "tree      {}: total ops 2^{}, width {}{bound}, peak {} unsliced\n",
+            t.source,
+            log2_str(t.total_ops_log2),
+            log2_str(t.width),
+            bytes_human(self.memory_unsliced_hint()),
+        ));
+        out.push_str(&format!(
+            "budget    {} per process, {} slice{} at a time, {} ({} bytes per element)\n\n",
+            bytes_human(self.budget_bytes as f64),
+            self.slices_at_once,
+            if self.slices_at_once == 1 { "" } else { "s" },
+            self.dtype,
+            self.bytes_per_element
+        ));
+        out.push_str(&format!("verdict   {}\n", self.verdict));
+        let m = &self.memory;
+        out.push_str(&format!(
+            "memory    inputs {} + output {} + {} x per-slice peak {} = {}\n",
+            bytes_human(m.inputs_bytes),
+            bytes_human(m.output_bytes),
+            self.slices_at_once,
+            bytes_human(m.per_slice_peak_bytes),
+            bytes_human(m.process_bytes)
+        ));
+        if let Some(s) = &self.slicing {
+            out.push_str(&format!(
+                "sliced    {} ({} slices); per slice 2^{} ops, width {}; total 2^{} ops, overhead {:.3}x (found by {})\n",
+                s.indices.join(", "),
+                group_decimal(&s.slices),
+                log2_str(s.per_slice.total_ops_log2),
+                log2_str(s.per_slice.width),
+                log2_str(s.total_ops_log2),
+                s.overhead,
+                origin_name(s.found_by)
+            ));
+        }
+        if let Some(c) = self.cover.as_ref().filter(|c| c.min_slices_log2 > 1e-9) {
+            out.push_str(&format!(
+                "bound     for this tree, no slice set with fewer than 2^{} slices keeps every tensor of a slice under {} elements{}\n",
+                log2_str(c.min_slices_log2),
+                group_decimal(&format!("{:.0}", c.cap_elements)),
+                if c.optimal { "" } else { " (relaxation bound; the programme hit its time limit)" }
+            ));
+        }
+        if let Some(e) = &self.estimate {
+            out.push_str(&estimate_line(e));
+        }
+        if let Some(s) = &self.search {
+            out.push_str(&format!(
+                "search    {} trials in {:.2} s (best by {} at {:.2} s), seed {}{}\n",
+                s.trials,
+                s.seconds,
+                s.finder,
+                s.seconds_to_best,
+                s.seed,
+                if s.interrupted { ", interrupted" } else { "" }
+            ));
+        }
+        if !self.frontier.is_empty() {
+            out.push_str("\nfrontier (best found for each number of slices)\n");
+            out.push_str(&frontier_table(&self.frontier, self.budget_bytes));
+        }
+        if !self.machines.is_empty() {
+            out.push_str("\nmachines\n");
+            let mut table = Table::new([
+                "target",
+                "budget",
+                "fits unsliced",
+                "slices",
+                "overhead",
+                "node-hours",
+            ]);
+            for r in &self.machines {
+                table.row([
+                    r.target.clone(),
+                    bytes_human(r.budget_bytes as f64),
+                    yes_no(r.fits_without_slicing).to_string(),
+                    r.slices
+                        .as_deref()
+                        .map(group_decimal)
+                        .unwrap_or_else(|| "cannot fit".into()),
+                    r.overhead.map(|o| format!("{o:.3}x")).unwrap_or_default(),
+                    r.estimate
+                        .as_ref()
+                        .map(|e| format!("{:.3}", e.node_hours))
+                        .unwrap_or_default(),
+                ]);
+            }
+            out.push_str(&table.render(2));
+        }
+        if self.estimate.is_some() || self.machines.iter().any(|m| m.estimate.is_some()) {
+            out.push_str(&format!("\nNote: every time is a {ESTIMATE_METHOD}. Measure before you book allocation hours.\n"));
+        }
+        out
+    }
+
+    fn memory_unsliced_hint(&self) -> f64 {
+        self.tree.peak_bytes.parse::<f64>().unwrap_or(f64::INFINITY)
+    }
+}
+
+fn verdict(head: &Advice, fits_without: bool, budget: u64) -> String {
+    let r = &head.result;
+    let need = r.unsliced.need.total_bytes();
+    if fits_without {
+        return format!(
+            "FITS without slicing: needs {} of {} (margin {:.2}x)",
+            bytes_human(need),
+            bytes_human(budget as f64),
+            budget as f64 / need
+        );
+    }
+    match &r.chosen {
+        Some((p, _)) => format!(
+            "FITS with {} slices at overhead {:.3}x (unsliced it needs {}, over the {} budget)",
+            group_decimal(&p.slices.to_json_string()),
+            (p.total_ops.log2 - r.unsliced.total_ops.log2).exp2(),
+            bytes_human(need),
+            bytes_human(budget as f64)
+        ),
+        None => {
+            let fixed = r.unsliced.need.fixed_bytes();
+            let why = if fixed > budget as f64 {
+                format!(
+                    "the inputs ({}) and the output ({}) alone need {}, more than the {} budget; slicing cannot shrink them",
+                    bytes_human(r.unsliced.need.inputs_bytes),
+                    bytes_human(r.unsliced.need.output_bytes),
+                    bytes_human(fixed),
+                    bytes_human(budget as f64)
+                )
+            } else {
+                format!(
+                    "no slice set found brings a process under {}",
+                    bytes_human(budget as f64)
+                )
+            };
+            format!(
+                "CANNOT FIT: {why}. The smallest budget that works with the slicing found is {}",
+                bytes_human(r.smallest_need_bytes)
+            )
+        }
+    }
+}
+
+fn machine_row(a: &Advice) -> MachineRow {
+    let r = &a.result;
+    MachineRow {
+        target: a.target.label.clone(),
+        budget_bytes: a.target.budget_bytes,
+        slices_at_once: a.target.slices_at_once,
+        fits_without_slicing: a.fits_without_slicing(),
+        fits: r.chosen.is_some(),
+        slices: r.chosen.as_ref().map(|(p, _)| p.slices.to_json_string()),
+        overhead: r
+            .chosen
+            .as_ref()
+            .map(|(p, _)| (p.total_ops.log2 - r.unsliced.total_ops.log2).exp2()),
+        estimate: a.estimate.clone(),
+    }
+}
+
+/// The frontier as an aligned table, marking the rows that fit.
+pub fn frontier_table(rows: &[FrontierRow], budget: u64) -> String {
+    let mut table = Table::new([
+        "slices <=",
+        "slices",
+        "per-slice peak",
+        "process",
+        "fits",
+        "total ops",
+        "overhead",
+    ]);
+    for r in rows {
+        table.row([
+            group_decimal(&r.slices_at_most),
+            group_decimal(&r.slices),
+            bytes_human(r.per_slice_peak_bytes),
+            bytes_human(r.process_bytes),
+            yes_no(r.process_bytes <= budget as f64).to_string(),
+            format!("2^{}", log2_str(r.total_ops_log2)),
+            format!("{:.3}x", r.overhead),
+        ]);
+    }
+    table.render(2)
+}
+
+fn estimate_line(e: &Estimate) -> String {
+    format!(
+        "estimate  {}: {} per slice; {} wall on {} node{}; {:.3} node-hours (model estimate)\n",
+        e.machine,
+        duration(e.seconds_per_slice),
+        duration(e.wall_seconds),
+        e.nodes_used,
+        if e.nodes_used == 1 { "" } else { "s" },
+        e.node_hours
+    )
+}
+
+/// Seconds in a readable unit.
+pub fn duration(seconds: f64) -> String {
+    if seconds < 0.1 {
+        format!("{seconds:.2e} s")
+    } else if seconds < 120.0 {
+        format!("{seconds:.1} s")
+    } else if seconds < 7200.0 {
+        format!("{:.1} min", seconds / 60.0)
+    } else if seconds < 172_800.0 {
+        format!("{:.1} h", seconds / 3600.0)
+    } else {
+        format!("{:.1} days", seconds / 86400.0)
+    }
+}
+
+fn yes_no(b: bool) -> &'static str {
+    if b {
+        "yes"
+    } else {
+        "no"
+    }
+}
+
+fn origin_name(o: Origin) -> &'static str {
+    match o {
+        Origin::Unsliced => "no slicing",
+        Origin::Greedy => "greedy",
+        Origin::Cover => "cover programme",
+        Origin::Cooptimised => "greedy with tree re-planning",
+        Origin::Exhaustive => "exhaustive search",
+    }
+}
