@@ -102,7 +102,11 @@ fn same_seed_same_output_on_the_command_line() {
 
 #[test]
 fn bad_options_exit_2_with_a_hint() {
-    let cases: [(&[&str], &str); 4] = [
+    let cases: [(&[&str], &str); 5] = [
+        (
+            &["--threads", "100000"],
+            "--threads: 100000 threads is too many",
+        ),
         (&["--objective", "fast"], "valid: ops, peak, width"),
         (&["--time", "soon"], "write e.g. 10s"),
         (&["--trials", "0"], "at least 1"),

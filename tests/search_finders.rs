@@ -12,8 +12,9 @@ use search_support::*;
 use sliceplan::cost::metrics;
 use sliceplan::network::Network;
 use sliceplan::search::{
-    exact_tree, find_tree, greedy_tree, partition_tree, refine_tree, ExactGoal, Finders,
-    GreedyParams, Objective, PartitionParams, Problem, RefineParams, SearchOptions, Simplified,
+    anneal_tree, exact_tree, find_tree, greedy_tree, partition_tree, refine_tree, AnnealParams,
+    ExactGoal, Finders, GreedyParams, Objective, PartitionParams, Problem, RefineParams,
+    SearchOptions, Simplified,
 };
 use sliceplan::tree::{tree_file_text, Tree};
 
@@ -118,8 +119,20 @@ fn finders() -> Vec<(&'static str, Finder)> {
                     k: 6,
                     goal: ExactGoal::TotalOps,
                     passes: 2,
+                    random_frontier: Some(5),
                 };
                 Some(refine_tree(p, &m, &params, None).0)
+            }),
+        ),
+        (
+            "greedy+anneal",
+            Box::new(move |p: &Problem| {
+                let m = greedy_tree(p, &GreedyParams::default(), &mut rng());
+                let params = AnnealParams {
+                    steps: 500,
+                    ..AnnealParams::default()
+                };
+                Some(anneal_tree(p, &m, &params, &mut rng()).0)
             }),
         ),
     ]
@@ -215,6 +228,41 @@ fn width_objectives_keep_to_the_cap() {
 }
 
 #[test]
+fn sliced_search_prices_one_slice() {
+    // Slicing both bonds of A(a,b) B(b,c) C(c,a) (dims 4): each slice is a
+    // product of scalars and vectors; by hand, the ring with b and c fixed
+    // is A(a) B() C(a): best total ops 4 (A with C over a) + 1 = 5.
+    let net = sliceplan::formats::einsum::network_from_einsum("ab,bc,ca->", Some(4), &[]).unwrap();
+    let ids = net.parse_index_list("b,c", "test").unwrap();
+    let r = sliceplan::search::find_tree_sliced(&net, &ids, &SearchOptions::trials(5, 1)).unwrap();
+    assert_eq!(r.metrics.total_ops.exact, Some(5));
+    assert!(sliceplan::search::find_tree_sliced(&net, &[9], &SearchOptions::trials(5, 1)).is_err());
+}
+
+#[test]
+fn stopping_keeps_the_best_so_far() {
+    // As Ctrl-C does: the progress callback raises the stop flag after the
+    // third trial of a budget of 10,000; the search returns a valid tree.
+    use std::sync::atomic::{AtomicBool, Ordering};
+    let net = lattice_2d(6, 2);
+    let stop = AtomicBool::new(false);
+    let on_progress = |p: &sliceplan::search::Progress| {
+        assert!(p.best.is_some());
+        if p.trials_done >= 3 {
+            stop.store(true, Ordering::SeqCst);
+        }
+    };
+    let opts = SearchOptions {
+        threads: 1,
+        ..SearchOptions::trials(10_000, 2)
+    };
+    let r = sliceplan::search::find_tree_with(&net, &opts, &on_progress, &stop).unwrap();
+    assert!(r.interrupted);
+    assert_eq!(r.trials, 3);
+    validate(&net, "interrupted search", &r.tree, None);
+}
+
+#[test]
 fn bad_options_are_refused() {
     let net = chain(&[2, 3, 4]);
     let mut opts = SearchOptions::trials(0, 1);
@@ -247,15 +295,18 @@ proptest! {
     }
 
     #[test]
-    fn refinement_is_never_worse(seed in 0u64..10_000, n in 3usize..=14, k in 3usize..=7) {
+    fn refinement_and_annealing_are_never_worse(seed in 0u64..10_000, n in 3usize..=14, k in 3usize..=7) {
         let net = random_network(seed, n);
         let p = Problem::from_network(&net);
         let mut rng = ChaCha8Rng::seed_from_u64(seed);
         let start = greedy_tree(&p, &GreedyParams { alpha: 0.5, temperature: 1.0 }, &mut rng);
         let before = p.evaluate(&start);
         for goal in [ExactGoal::TotalOps, ExactGoal::Width] {
-            let (after, _) = refine_tree(&p, &start, &RefineParams { k, goal, passes: 3 }, None);
+            let (after, _) = refine_tree(&p, &start, &RefineParams { k, goal, passes: 3, random_frontier: (seed % 2 == 0).then_some(seed) }, None);
             let after = p.evaluate(&after);
+            let hot = AnnealParams { steps: 300, t_start: 0.5, ..AnnealParams::default() };
+            let (annealed, _) = anneal_tree(&p, &start, &hot, &mut rng);
+            prop_assert!(p.evaluate(&annealed).total_ops_log2 <= before.total_ops_log2 + 1e-9);
             match goal {
                 ExactGoal::TotalOps => prop_assert!(after.total_ops_log2 <= before.total_ops_log2 + 1e-9),
                 _ => prop_assert!(after.width <= before.width + 1e-9),

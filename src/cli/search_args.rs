@@ -56,6 +56,7 @@ impl SearchArgs {
             ..SearchOptions::trials(1, self.seed)
         };
         search.validate().map_err(|e| match e {
+            Error::Usage(m) if m.contains("threads") => Error::usage(format!("--threads: {m}")),
             Error::Usage(m) => Error::usage(format!("--trials/--time: {m}")),
             other => other,
         })?;

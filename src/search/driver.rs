@@ -4,11 +4,27 @@
 //! # What it computes
 //!
 //! [`find_tree`] searches for a tree minimising an [`Objective`] within a
-//! budget of trials or time. Trial 0 is the exact finder when the network
-//! (after simplification) is small enough; every other trial draws a finder
-//! (greedy or partitioning) and its parameters, optionally refines its tree,
-//! and is scored. The best tree then gets a final refinement and is priced
-//! with the cost model on the network's own tensors.
+//! budget of trials or time (when both are given, whichever ends first).
+//!
+//! * Trial 0 is the exact finder when the network, simplified without or
+//!   with absorption, has at most [`EXACT_AUTO`] tensors. When that is the
+//!   unabsorbed network with at most 12 tensors (outer products included,
+//!   so the optimum over all trees) and the objective is one the exact
+//!   finder optimises, the search ends there.
+//! * Every other trial works on the unabsorbed or the absorbed problem (a
+//!   coin toss) and draws a finder: partitioning (half the trials, from 24
+//!   tensors up) or greedy, with parameters drawn too. Its tree is refined
+//!   with random subtree sizes (always on problems of at most 64 tensors,
+//!   a quarter of the trials up to 5,000 tensors), and in a fifth of the
+//!   trials annealed by rotations (objectives on total ops only).
+//! * Trials are scored by the objective on the network's own tensors (the
+//!   absorbed merges included), the peak by the cost model when needed.
+//! * The best tree gets a final refinement with larger subtrees (kept only
+//!   if the objective does not get worse), and is priced by the cost model.
+//!
+//! With a time budget, new trials start during the first 85% of it and the
+//! final refinement stops at its end; a trial already running finishes (so
+//! a single slow trial, e.g. greedy on 100,000 tensors, may overrun).
 //!
 //! # Determinism
 //!
@@ -40,140 +56,23 @@ use std::time::{Duration, Instant};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
-use super::bound::{width_lower_bound, WidthBound};
-use super::exact::{exact_tree, ALL_SUBSETS_MAX};
+use super::anneal::{anneal_tree, AnnealParams};
+use super::bound::width_lower_bound;
+use super::exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX};
 use super::greedy::{greedy_tree, GreedyParams};
-use super::objective::{Key, Measures, Objective};
+use super::objective::{Key, Measures};
+use super::options::{Progress, SearchOptions, SearchResult};
 use super::partition::{partition_tree, PartitionParams};
 use super::refine::{refine_tree, RefineParams};
 use super::simplify::Simplified;
-use crate::cost::{Metrics, NodeSets, PeakModel};
+use crate::cost::{NodeSets, PeakModel};
 use crate::error::{Error, Result};
-use crate::network::Network;
+use crate::network::{IndexId, Network};
 use crate::num::log2_add;
-use crate::tree::Tree;
 
 /// Networks up to this many tensors (after simplification) get an exact
 /// trial.
 pub const EXACT_AUTO: usize = 16;
-
-/// Which finders the trials may draw.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Finders {
-    /// The exact finder as trial 0 on small networks.
-    pub exact: bool,
-    /// The randomised greedy finder.
-    pub greedy: bool,
-    /// The balanced-partitioning finder.
-    pub partition: bool,
-    /// Subtree refinement inside trials and of the final best.
-    pub refine: bool,
-}
-
-impl Default for Finders {
-    fn default() -> Self {
-        Finders {
-            exact: true,
-            greedy: true,
-            partition: true,
-            refine: true,
-        }
-    }
-}
-
-/// Options of a search.
-#[derive(Debug, Clone, PartialEq)]
-pub struct SearchOptions {
-    /// What to minimise.
-    pub objective: Objective,
-    /// Stop after this many trials.
-    pub trials: Option<u64>,
-    /// Stop after this much time (the final refinement included).
-    pub time: Option<Duration>,
-    /// Seed of every random choice.
-    pub seed: u64,
-    /// Worker threads (0: one per core).
-    pub threads: usize,
-    /// Finders the trials may use.
-    pub finders: Finders,
-    /// Simplify (absorb small tensors) for some trials.
-    pub simplify: bool,
-}
-
-impl SearchOptions {
-    /// Options for a fixed number of trials with a seed (deterministic).
-    pub fn trials(trials: u64, seed: u64) -> SearchOptions {
-        SearchOptions {
-            objective: Objective::TotalOps,
-            trials: Some(trials),
-            time: None,
-            seed,
-            threads: 0,
-            finders: Finders::default(),
-            simplify: true,
-        }
-    }
-
-    /// Options for a time budget with a seed.
-    pub fn time(time: Duration, seed: u64) -> SearchOptions {
-        SearchOptions {
-            time: Some(time),
-            trials: None,
-            ..SearchOptions::trials(0, seed)
-        }
-    }
-
-    /// Checks the options before any work.
-    pub fn validate(&self) -> Result<()> {
-        match (self.trials, self.time) {
-            (None, None) => Err(Error::usage(
-                "give a trial count or a time budget (e.g. --trials 100 or --time 10s)",
-            )),
-            (Some(0), _) => Err(Error::usage("the trial count must be at least 1")),
-            (_, Some(t)) if t.is_zero() => Err(Error::usage("the time budget must be positive")),
-            _ if !(self.finders.greedy || self.finders.partition || self.finders.exact) => {
-                Err(Error::usage("enable at least one finder"))
-            }
-            _ => Ok(()),
-        }
-    }
-}
-
-/// Where a search stands, for progress display.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Progress {
-    /// Trials finished.
-    pub trials_done: u64,
-    /// The trial budget, if any.
-    pub trials_total: Option<u64>,
-    /// Time since the search started.
-    pub elapsed: Duration,
-    /// Measures of the best tree so far.
-    pub best: Option<Measures>,
-}
-
-/// The outcome of a search.
-#[derive(Debug, Clone)]
-pub struct SearchResult {
-    /// The best tree, over the network's tensors.
-    pub tree: Tree,
-    /// Its metrics by the cost model (default peak model).
-    pub metrics: Metrics,
-    /// The proven lower bound on width.
-    pub lower_bound: WidthBound,
-    /// Trials run.
-    pub trials: u64,
-    /// The trial that found the best tree.
-    pub best_trial: u64,
-    /// How the best tree was found, e.g. `greedy+refine`.
-    pub finder: String,
-    /// Seconds from the start until the best trial finished.
-    pub seconds_to_best: f64,
-    /// Seconds the whole search took.
-    pub seconds: f64,
-    /// True when the search was stopped early (Ctrl-C).
-    pub interrupted: bool,
-}
 
 /// One trial's tree and score.
 struct Found {
@@ -189,6 +88,27 @@ struct Found {
 /// Searches with the options; see the module docs.
 pub fn find_tree(net: &Network, opts: &SearchOptions) -> Result<SearchResult> {
     find_tree_with(net, opts, &|_| {}, &AtomicBool::new(false))
+}
+
+/// Searches as if the indices in `sliced` had dimension 1 (one slice), as
+/// the slicing stage re-plans a tree for a slice set. The tree is over the
+/// same tensors; the metrics and lower bound are per slice.
+pub fn find_tree_sliced(
+    net: &Network,
+    sliced: &[IndexId],
+    opts: &SearchOptions,
+) -> Result<SearchResult> {
+    let mut one_slice = net.clone();
+    for &e in sliced {
+        let index = one_slice.indices.get_mut(e).ok_or_else(|| {
+            Error::usage(format!(
+                "sliced index id {e} is out of range (the network has {} indices)",
+                net.num_indices()
+            ))
+        })?;
+        index.dim = 1;
+    }
+    find_tree(&one_slice, opts)
 }
 
 /// Like [`find_tree`], calling `progress` after each trial (from worker
@@ -337,16 +257,37 @@ impl Ctx<'_> {
         } else {
             return None;
         };
-        if f.refine && p.len() <= 5000 && rng.random_bool(0.25) {
+        // Small problems are always refined (cheap); larger ones sometimes.
+        let refine_now = p.len() <= 64 || (p.len() <= 5000 && rng.random_bool(0.25));
+        if f.refine && refine_now {
+            let small = p.len() <= 64;
             let params = RefineParams {
-                k: rng.random_range(4..=7),
+                k: if small {
+                    rng.random_range(5..=9)
+                } else {
+                    rng.random_range(4..=7)
+                },
                 goal,
-                passes: 1,
+                passes: if small { 3 } else { 1 },
+                random_frontier: rng.random_bool(0.5).then(|| rng.random()),
             };
             let (refined, changed) = refine_tree(p, &merges, &params, None);
             if changed {
                 merges = refined;
                 name.push_str("+refine");
+            }
+        }
+        if let (true, Some(cap)) = (f.refine && rng.random_bool(0.2), ops_cap(goal)) {
+            let params = AnnealParams {
+                steps: merges.len() * rng.random_range(5..=30),
+                t_start: rng.random_range(0.005..0.1),
+                t_end: 0.0005,
+                max_width: cap,
+            };
+            let (annealed, changed) = anneal_tree(p, &merges, &params, &mut rng);
+            if changed {
+                merges = annealed;
+                name.push_str("+anneal");
             }
         }
         Some(self.found(i, k, merges, name, start))
@@ -405,6 +346,7 @@ impl Ctx<'_> {
             k: if p.len() <= 2000 { 8 } else { 6 },
             goal: self.opts.objective.exact_goal(),
             passes: 3,
+            random_frontier: None,
         };
         let (merges, changed) = refine_tree(p, &best.merges, &params, deadline);
         if !changed {
@@ -418,6 +360,16 @@ impl Ctx<'_> {
             best.measures = measures;
             best.finder.push_str("+final-refine");
         }
+    }
+}
+
+/// The width cap rotations must respect when annealing serves `goal`
+/// (`None`: annealing on total ops does not serve a width goal).
+fn ops_cap(goal: ExactGoal) -> Option<f64> {
+    match goal {
+        ExactGoal::TotalOps => Some(f64::INFINITY),
+        ExactGoal::OpsWithin(cap) => Some(cap),
+        ExactGoal::Width => None,
     }
 }
 

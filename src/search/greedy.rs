@@ -12,7 +12,7 @@
 //!
 //! (sizes in elements; the score is compared on a signed log scale so that
 //! huge sizes stay finite), minus `temperature` times a standard Gumbel
-//! variable drawn when the pair is scored. With temperature 0 the choice is
+//! variable drawn when the pair is scored (from a table of 1,024 quantiles). With temperature 0 the choice is
 //! deterministic (ties go to the pair scored first); with temperature T the
 //! choice among scored pairs is a Boltzmann draw at temperature T on that log
 //! scale (the Gumbel-max trick). When no two tensors share an index the
@@ -101,6 +101,11 @@ struct State<'a> {
     /// Index list of every node (leaves, then merges); emptied when merged.
     nodes: Vec<Vec<u32>>,
     size: Vec<f64>,
+    /// 2^size of every node (elements).
+    pow: Vec<f64>,
+    /// Weight of the indices only this node carries and that are not open
+    /// (possible at leaves only: a merged node keeps no such index).
+    lone: Vec<f64>,
     alive: Vec<bool>,
     /// Alive nodes carrying each index.
     holders: Vec<Vec<u32>>,
@@ -110,27 +115,23 @@ struct State<'a> {
 }
 
 impl State<'_> {
-    /// log2 size of the result of merging alive nodes `a` and `b`.
+    /// log2 size of the result of merging alive nodes `a` and `b`:
+    /// w(a) + w(b), less each shared index once (twice when a and b are its
+    /// last holders and it is not open, so it is summed), less the indices
+    /// only a leaf carries. Walks the shorter list, searching the longer.
     fn result_size(&self, a: usize, b: usize) -> f64 {
         let (la, lb) = (&self.nodes[a], &self.nodes[b]);
-        let mut w = 0.0;
-        let (mut i, mut j) = (0, 0);
-        while i < la.len() || j < lb.len() {
-            let (e, both) = if j >= lb.len() || (i < la.len() && la[i] < lb[j]) {
-                i += 1;
-                (la[i - 1], false)
-            } else if i >= la.len() || lb[j] < la[i] {
-                j += 1;
-                (lb[j - 1], false)
-            } else {
-                i += 1;
-                j += 1;
-                (la[i - 1], true)
-            };
-            let e = e as usize;
-            let carried = if both { 2 } else { 1 };
-            if self.p.open[e] || self.holders[e].len() > carried {
-                w += self.p.weight[e];
+        let (short, long) = if la.len() <= lb.len() {
+            (la, lb)
+        } else {
+            (lb, la)
+        };
+        let mut w = self.size[a] + self.size[b] - self.lone[a] - self.lone[b];
+        for &e in short.iter() {
+            if long.binary_search(&e).is_ok() {
+                let e = e as usize;
+                let summed = !self.p.open[e] && self.holders[e].len() == 2;
+                w -= self.p.weight[e] * if summed { 2.0 } else { 1.0 };
             }
         }
         w
@@ -170,6 +171,8 @@ impl State<'_> {
             }
         }
         self.size.push(self.p.weight_of(&kept));
+        self.pow.push(self.size[c].exp2());
+        self.lone.push(0.0);
         self.nodes.push(kept);
         self.alive[a] = false;
         self.alive[b] = false;
@@ -197,8 +200,26 @@ impl State<'_> {
 }
 
 /// Signed log scale: keeps the order of the linear score but stays finite.
+/// ln(1 + |x|) is approximated from the float's exponent and mantissa
+/// (piecewise linear between powers of two, within 0.09 of log2 and
+/// increasing, which is all the ordering needs).
 fn signed_log(x: f64) -> f64 {
-    x.signum() * x.abs().ln_1p()
+    let y = 1.0 + x.abs();
+    let bits = y.to_bits();
+    let exponent = ((bits >> 52) & 0x7ff) as f64 - 1023.0;
+    let mantissa = (bits & ((1u64 << 52) - 1)) as f64 / (1u64 << 52) as f64;
+    x.signum() * (exponent + mantissa) * std::f64::consts::LN_2
+}
+
+/// Quantiles of the standard Gumbel distribution at (k + 0.5) / 1024: a
+/// random entry is a Gumbel variable rounded to 1/1024 in probability.
+fn gumbel_table() -> Vec<f64> {
+    (0..1024)
+        .map(|k| {
+            let u = (k as f64 + 0.5) / 1024.0;
+            -(-(u.ln())).ln()
+        })
+        .collect()
 }
 
 /// A tree built by the randomised greedy rule (see the module docs).
@@ -208,15 +229,31 @@ pub fn greedy_tree<R: Rng>(p: &Problem, params: &GreedyParams, rng: &mut R) -> V
         p,
         nodes: p.tensors.clone(),
         size: p.tensors.iter().map(|t| p.weight_of(t)).collect(),
+        pow: p.tensors.iter().map(|t| p.weight_of(t).exp2()).collect(),
+        lone: p
+            .tensors
+            .iter()
+            .map(|t| {
+                t.iter()
+                    .filter(|&&e| !p.open[e as usize] && p.incidence[e as usize].len() == 1)
+                    .map(|&e| p.weight[e as usize])
+                    .sum()
+            })
+            .collect(),
         alive: vec![true; n],
         holders: p.incidence.clone(),
         stamp: vec![0; n],
         clock: 0,
     };
     let mut heap: BinaryHeap<Reverse<(Ordered, u32, u32)>> = BinaryHeap::new();
+    let gumbel = if params.temperature > 0.0 {
+        gumbel_table()
+    } else {
+        Vec::new()
+    };
     let score = |st: &State, a: usize, b: usize, rng: &mut R| -> Ordered {
         let c = st.result_size(a, b);
-        let lin = c.exp2() - params.alpha * (st.size[a].exp2() + st.size[b].exp2());
+        let lin = c.exp2() - params.alpha * (st.pow[a] + st.pow[b]);
         // Beyond f64 range fall back to comparing log sizes.
         let base = if lin.is_finite() {
             signed_log(lin)
@@ -224,8 +261,7 @@ pub fn greedy_tree<R: Rng>(p: &Problem, params: &GreedyParams, rng: &mut R) -> V
             c * std::f64::consts::LN_2
         };
         let noise = if params.temperature > 0.0 {
-            let u: f64 = rng.random_range(f64::MIN_POSITIVE..1.0);
-            -params.temperature * (-(u.ln())).ln()
+            params.temperature * gumbel[(rng.next_u32() >> 22) as usize]
         } else {
             0.0
         };

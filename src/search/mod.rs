@@ -1,5 +1,5 @@
 //! Contraction-tree search: exact, randomised greedy and balanced-partition
-//! finders, subtree refinement, simplification, a proven lower bound on
+//! finders, subtree refinement, rotations by annealing, simplification, a proven lower bound on
 //! width, and the time- or trial-bounded driver that ties them together.
 //!
 //! Most callers want [`find_tree`] (or [`find_tree_with`] for progress and
@@ -24,23 +24,25 @@
 //! weights) and return merge lists in single-assignment form; they are
 //! public so that other stages (slicing) can call them directly.
 
+mod anneal;
 mod bound;
 mod driver;
 mod exact;
 mod greedy;
 mod objective;
+mod options;
 mod partition;
 mod problem;
 mod refine;
 mod simplify;
 
+pub use anneal::{anneal_tree, AnnealParams};
 pub use bound::{width_lower_bound, WidthBound};
-pub use driver::{
-    find_tree, find_tree_with, Finders, Progress, SearchOptions, SearchResult, EXACT_AUTO,
-};
+pub use driver::{find_tree, find_tree_sliced, find_tree_with, EXACT_AUTO};
 pub use exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX, CLASSES_MAX, EXACT_MAX};
 pub use greedy::{greedy_tree, GreedyParams};
 pub use objective::{Key, Measures, Objective};
+pub use options::{Finders, Progress, SearchOptions, SearchResult, MAX_THREADS};
 pub use partition::{partition_tree, PartitionParams};
 pub use problem::{splice, Eval, Problem};
 pub use refine::{refine_tree, RefineParams};

@@ -25,7 +25,14 @@
 //! edge weights are the summed log2 dimensions of the indices two tensors
 //! share (scaled by ten and rounded; an index on d tensors of the part gives
 //! each of its pairs 1/(d-1) of its weight, and indices on more than 16
-//! tensors of the part join consecutive holders only). Contracting along a
+//! tensors of the part join consecutive holders only).
+//!
+//! The size of a part's node is the weight of the indices leaving the part,
+//! so a child's size is its share of the parent's boundary plus the cut.
+//! Parts of 64 tensors or more are therefore bisected `tries` times,
+//! alternating a plain bisection with a two-constraint one that also
+//! balances the boundary weight (METIS multi-constraint partitioning), and
+//! the split whose larger child is smallest is kept. Contracting along a
 //! recursive min-cut bisection is the approach of Gray and Kourtis,
 //! "Hyper-optimized tensor network contraction", Quantum 5, 410 (2021).
 //! Time: O(E log n) for the bisections (each level is linear in the edges)
@@ -55,6 +62,10 @@ use super::exact::{exact_tree, ExactGoal};
 use super::greedy::{greedy_tree, GreedyParams};
 use super::problem::{splice, Problem};
 
+/// Allowed imbalance of the boundary weight between the two parts when a
+/// bisection balances it (1.2: within 20%).
+const BOUNDARY_TOLERANCE: metis::Real = 1.2;
+
 /// Parameters of one partitioning run.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PartitionParams {
@@ -68,6 +79,9 @@ pub struct PartitionParams {
     pub goal: ExactGoal,
     /// Greedy parameters for larger parts.
     pub greedy: GreedyParams,
+    /// Bisections tried per large part (alternately balancing the part's
+    /// boundary too); the one whose larger child is smallest is kept.
+    pub tries: usize,
     /// Seed of the partitioner.
     pub seed: i32,
 }
@@ -80,6 +94,7 @@ impl Default for PartitionParams {
             exact_size: 8,
             goal: ExactGoal::TotalOps,
             greedy: GreedyParams::default(),
+            tries: 1,
             seed: 1,
         }
     }
@@ -94,6 +109,7 @@ impl PartitionParams {
             exact_size: 9,
             goal,
             greedy: GreedyParams::sample(rng),
+            tries: rng.random_range(1..=4),
             seed: rng.random_range(0..i32::MAX),
         }
     }
@@ -136,8 +152,21 @@ fn build<R: Rng>(
         let leaves: Vec<usize> = set.iter().map(|&t| t as usize).collect();
         return splice(&local, &leaves, n, merges);
     }
-    *seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345) & i32::MAX;
-    let (left, right) = bisect(p, set, params.imbalance, *seed);
+    let tries = if set.len() >= 64 {
+        params.tries.max(1)
+    } else {
+        1
+    };
+    let mut best: Option<(f64, Vec<u32>, Vec<u32>)> = None;
+    for k in 0..tries {
+        *seed = seed.wrapping_mul(1_103_515_245).wrapping_add(12_345) & i32::MAX;
+        let (l, r) = bisect(p, set, params.imbalance, *seed, k % 2 == 1);
+        let worst = boundary_weight(p, &l).max(boundary_weight(p, &r));
+        if best.as_ref().is_none_or(|b| worst < b.0) {
+            best = Some((worst, l, r));
+        }
+    }
+    let (_, left, right) = best.expect("at least one try");
     let a = build(p, params, rng, &left, merges, seed);
     let b = build(p, params, rng, &right, merges, seed);
     merges.push([a, b]);
@@ -145,19 +174,74 @@ fn build<R: Rng>(
 }
 
 /// Splits `set` in two non-empty parts.
-fn bisect(p: &Problem, set: &[u32], imbalance: f64, seed: i32) -> (Vec<u32>, Vec<u32>) {
+/// Weight of the indices leaving a sorted set of tensors (its node's size).
+fn boundary_weight(p: &Problem, part: &[u32]) -> f64 {
+    let mut seen = std::collections::HashSet::new();
+    let mut w = 0.0;
+    for &t in part {
+        for &e in &p.tensors[t as usize] {
+            let i = e as usize;
+            if seen.insert(e)
+                && (p.open[i]
+                    || p.incidence[i]
+                        .iter()
+                        .any(|h| part.binary_search(h).is_err()))
+            {
+                w += p.weight[i];
+            }
+        }
+    }
+    w
+}
+
+/// Splits `set` in two non-empty parts; with `by_boundary`, also balances
+/// the weight of the indices leaving the set.
+fn bisect(
+    p: &Problem,
+    set: &[u32],
+    imbalance: f64,
+    seed: i32,
+    by_boundary: bool,
+) -> (Vec<u32>, Vec<u32>) {
     let (xadj, adjncy, adjwgt) = graph_of(p, set);
     let mut part = vec![0 as metis::Idx; set.len()];
     let ufactor = ((imbalance * 1000.0).round() as metis::Idx).clamp(1, 1000);
+    // Second balance constraint: the weight of each tensor's indices that
+    // leave the part. A child's size is its share of the part's boundary
+    // plus the cut, so splitting the boundary evenly keeps both small.
+    let boundary: Vec<metis::Idx> = set
+        .iter()
+        .map(|&t| {
+            let w: f64 = p.tensors[t as usize]
+                .iter()
+                .filter(|&&e| {
+                    let e = e as usize;
+                    p.open[e] || p.incidence[e].iter().any(|h| set.binary_search(h).is_err())
+                })
+                .map(|&e| p.weight[e as usize])
+                .sum();
+            (w * 10.0).round() as metis::Idx
+        })
+        .collect();
+    let with_boundary = by_boundary && boundary.iter().filter(|&&b| b > 0).count() >= 2;
+    let vwgt: Vec<metis::Idx> = if with_boundary {
+        boundary.iter().flat_map(|&b| [1, b]).collect()
+    } else {
+        Vec::new()
+    };
+    let ubvec = [1.0 + imbalance as metis::Real, BOUNDARY_TOLERANCE];
+    let ncon = if with_boundary { 2 } else { 1 };
     let ok = !adjncy.is_empty()
-        && metis::Graph::new(1, 2, &xadj, &adjncy)
+        && metis::Graph::new(ncon, 2, &xadj, &adjncy)
             .ok()
             .map(|g| {
-                g.set_adjwgt(&adjwgt)
-                    .set_option(metis::option::Seed(seed))
-                    .set_option(metis::option::UFactor(ufactor))
-                    .part_recursive(&mut part)
-                    .is_ok()
+                let g = g.set_adjwgt(&adjwgt).set_option(metis::option::Seed(seed));
+                let g = if with_boundary {
+                    g.set_vwgt(&vwgt).set_ubvec(&ubvec)
+                } else {
+                    g.set_option(metis::option::UFactor(ufactor))
+                };
+                g.part_recursive(&mut part).is_ok()
             })
             .unwrap_or(false);
     let (mut left, mut right) = (Vec::new(), Vec::new());

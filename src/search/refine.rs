@@ -43,13 +43,16 @@
 //! open[6] = true;
 //! let p = Problem::new(tensors, d.iter().map(|x| x.log2()).collect(), open);
 //! let left_deep = vec![[0, 1], [6, 2], [7, 3], [8, 4], [9, 5]];
-//! let params = RefineParams { k: 6, goal: ExactGoal::TotalOps, passes: 4 };
+//! let params = RefineParams { k: 6, goal: ExactGoal::TotalOps, passes: 4, random_frontier: None };
 //! let (better, changed) = refine_tree(&p, &left_deep, &params, None);
 //! assert!(changed);
 //! assert!((p.evaluate(&better).total_ops_log2.exp2() - 15125.0).abs() < 1e-6);
 //! ```
 
 use std::time::Instant;
+
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
 
 use super::exact::{exact_tree, ExactGoal};
 use super::problem::{Eval, Problem};
@@ -63,6 +66,10 @@ pub struct RefineParams {
     pub goal: ExactGoal,
     /// Most passes over the tree.
     pub passes: usize,
+    /// How a cut-out subtree grows: `None` opens the largest intermediate
+    /// on the frontier; `Some(seed)` opens a random one (seeded), so
+    /// repeated refinements explore different subtrees.
+    pub random_frontier: Option<u64>,
 }
 
 /// Lexicographic key of a local evaluation for a goal (smaller is better).
@@ -98,13 +105,14 @@ pub fn refine_tree(
     let mut children: Vec<[usize; 2]> = merges.to_vec();
     let root = n + merges.len() - 1;
     let mut changed = false;
+    let mut rng = params.random_frontier.map(ChaCha8Rng::seed_from_u64);
     'passes: for _ in 0..params.passes.max(1) {
         let mut improved = false;
         for v in post_order(n, &children, root) {
             if deadline.is_some_and(|d| Instant::now() >= d) {
                 break 'passes;
             }
-            improved |= improve_at(p, v, params, &mut nodes, &mut children);
+            improved |= improve_at(p, v, params, &mut nodes, &mut children, rng.as_mut());
         }
         changed |= improved;
         if !improved {
@@ -121,12 +129,23 @@ fn improve_at(
     params: &RefineParams,
     nodes: &mut [Vec<u32>],
     children: &mut [[usize; 2]],
+    mut rng: Option<&mut ChaCha8Rng>,
 ) -> bool {
     let n = p.len();
     let size = |x: usize, nodes: &[Vec<u32>]| p.weight_of(&nodes[x]);
     let mut frontier: Vec<usize> = children[v - n].to_vec();
     let mut inner = vec![v];
     while frontier.len() < params.k {
+        if let Some(r) = rng.as_deref_mut() {
+            let open: Vec<usize> = (0..frontier.len()).filter(|&i| frontier[i] >= n).collect();
+            if open.is_empty() {
+                break;
+            }
+            let x = frontier.swap_remove(open[r.random_range(0..open.len())]);
+            inner.push(x);
+            frontier.extend_from_slice(&children[x - n]);
+            continue;
+        }
         let pick = frontier
             .iter()
             .enumerate()
@@ -237,7 +256,7 @@ fn post_order(n: usize, children: &[[usize; 2]], root: usize) -> Vec<usize> {
 }
 
 /// Renumbers the tree in post-order into single-assignment merges.
-fn linearise(n: usize, children: &[[usize; 2]], root: usize) -> Vec<[usize; 2]> {
+pub(super) fn linearise(n: usize, children: &[[usize; 2]], root: usize) -> Vec<[usize; 2]> {
     let order = post_order(n, children, root);
     let mut new_id = vec![usize::MAX; n + children.len()];
     for (t, slot) in new_id.iter_mut().enumerate().take(n) {

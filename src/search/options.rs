@@ -1,0 +1,134 @@
+//! The options, progress reports and results of a search.
+
+use std::time::Duration;
+
+use super::bound::WidthBound;
+use super::objective::{Measures, Objective};
+use crate::cost::Metrics;
+use crate::error::{Error, Result};
+use crate::tree::Tree;
+
+/// The most worker threads a search accepts.
+pub const MAX_THREADS: usize = 1024;
+
+/// Which finders the trials may draw.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Finders {
+    /// The exact finder as trial 0 on small networks.
+    pub exact: bool,
+    /// The randomised greedy finder.
+    pub greedy: bool,
+    /// The balanced-partitioning finder.
+    pub partition: bool,
+    /// Subtree refinement inside trials and of the final best.
+    pub refine: bool,
+}
+
+impl Default for Finders {
+    fn default() -> Self {
+        Finders {
+            exact: true,
+            greedy: true,
+            partition: true,
+            refine: true,
+        }
+    }
+}
+
+/// Options of a search.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SearchOptions {
+    /// What to minimise.
+    pub objective: Objective,
+    /// Stop after this many trials.
+    pub trials: Option<u64>,
+    /// Stop after this much time (the final refinement included).
+    pub time: Option<Duration>,
+    /// Seed of every random choice.
+    pub seed: u64,
+    /// Worker threads (0: one per core).
+    pub threads: usize,
+    /// Finders the trials may use.
+    pub finders: Finders,
+    /// Simplify (absorb small tensors) for some trials.
+    pub simplify: bool,
+}
+
+impl SearchOptions {
+    /// Options for a fixed number of trials with a seed (deterministic).
+    pub fn trials(trials: u64, seed: u64) -> SearchOptions {
+        SearchOptions {
+            objective: Objective::TotalOps,
+            trials: Some(trials),
+            time: None,
+            seed,
+            threads: 0,
+            finders: Finders::default(),
+            simplify: true,
+        }
+    }
+
+    /// Options for a time budget with a seed.
+    pub fn time(time: Duration, seed: u64) -> SearchOptions {
+        SearchOptions {
+            time: Some(time),
+            trials: None,
+            ..SearchOptions::trials(0, seed)
+        }
+    }
+
+    /// Checks the options before any work.
+    pub fn validate(&self) -> Result<()> {
+        match (self.trials, self.time) {
+            (None, None) => Err(Error::usage(
+                "give a trial count or a time budget (e.g. --trials 100 or --time 10s)",
+            )),
+            (Some(0), _) => Err(Error::usage("the trial count must be at least 1")),
+            (_, Some(t)) if t.is_zero() => Err(Error::usage("the time budget must be positive")),
+            _ if self.threads > MAX_THREADS => Err(Error::usage(format!(
+                "{} threads is too many; give at most {MAX_THREADS} (0 means one per core)",
+                self.threads
+            ))),
+            _ if !(self.finders.greedy || self.finders.partition || self.finders.exact) => {
+                Err(Error::usage("enable at least one finder"))
+            }
+            _ => Ok(()),
+        }
+    }
+}
+
+/// Where a search stands, for progress display.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Progress {
+    /// Trials finished.
+    pub trials_done: u64,
+    /// The trial budget, if any.
+    pub trials_total: Option<u64>,
+    /// Time since the search started.
+    pub elapsed: Duration,
+    /// Measures of the best tree so far.
+    pub best: Option<Measures>,
+}
+
+/// The outcome of a search.
+#[derive(Debug, Clone)]
+pub struct SearchResult {
+    /// The best tree, over the network's tensors.
+    pub tree: Tree,
+    /// Its metrics by the cost model (default peak model).
+    pub metrics: Metrics,
+    /// The proven lower bound on width.
+    pub lower_bound: WidthBound,
+    /// Trials run.
+    pub trials: u64,
+    /// The trial that found the best tree.
+    pub best_trial: u64,
+    /// How the best tree was found, e.g. `greedy+refine`.
+    pub finder: String,
+    /// Seconds from the start until the best trial finished.
+    pub seconds_to_best: f64,
+    /// Seconds the whole search took.
+    pub seconds: f64,
+    /// True when the search was stopped early (Ctrl-C).
+    pub interrupted: bool,
+}
