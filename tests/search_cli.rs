@@ -122,3 +122,49 @@ fn bad_options_exit_2_with_a_hint() {
         assert!(stderr.contains(hint), "{extra:?}: {stderr}");
     }
 }
+
+#[test]
+fn partitioning_trials_are_reproducible_across_processes() {
+    // Regression: METIS keeps its random state in a C global, so two
+    // threads partitioning at once made trees depend on timing. A brickwork
+    // circuit is large enough for the partitioning finder; three runs with
+    // two threads and one with one thread must write the same tree.
+    let dir = tempfile::tempdir().unwrap();
+    let net = dir.path().join("b.toml");
+    let net = net.to_str().unwrap();
+    let (code, _, err) = sliceplan(&[
+        "generate",
+        "brickwork",
+        "--rows",
+        "4",
+        "--cols",
+        "4",
+        "--depth",
+        "10",
+        "--seed",
+        "3",
+        "-o",
+        net,
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let mut files = Vec::new();
+    for (run, threads) in ["2", "2", "2", "1"].iter().enumerate() {
+        let out = dir.path().join(format!("t{run}.toml"));
+        let out = out.to_str().unwrap();
+        let (code, _, err) = sliceplan(&[
+            "plan",
+            net,
+            "--trials",
+            "24",
+            "--seed",
+            "5",
+            "--threads",
+            threads,
+            "-o",
+            out,
+        ]);
+        assert_eq!(code, 0, "{err}");
+        files.push(std::fs::read(out).unwrap());
+    }
+    assert!(files.iter().all(|f| *f == files[0]));
+}

@@ -66,6 +66,9 @@ use super::problem::{splice, Problem};
 /// bisection balances it (1.2: within 20%).
 const BOUNDARY_TOLERANCE: metis::Real = 1.2;
 
+/// Serialises calls into METIS (see [`bisect`]).
+static METIS_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
 /// Parameters of one partitioning run.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PartitionParams {
@@ -231,6 +234,11 @@ fn bisect(
     };
     let ubvec = [1.0 + imbalance as metis::Real, BOUNDARY_TOLERANCE];
     let ncon = if with_boundary { 2 } else { 1 };
+    // METIS keeps its random-number state in a C global: two threads
+    // partitioning at once interleave it, and the result then depends on
+    // timing even with a fixed seed. One partition at a time keeps trials
+    // reproducible.
+    let _one_at_a_time = METIS_LOCK.lock().unwrap_or_else(|e| e.into_inner());
     let ok = !adjncy.is_empty()
         && metis::Graph::new(ncon, 2, &xadj, &adjncy)
             .ok()
