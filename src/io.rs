@@ -1,11 +1,53 @@
-//! Atomic file writes: a temporary file in the target's directory, flushed to
-//! disk, then renamed over the target, so an interruption never leaves a
-//! half-written result behind.
+//! File helpers: atomic writes (a temporary file in the target's directory,
+//! flushed to disk, then renamed over the target, so an interruption never
+//! leaves a half-written result behind) and reading our own versioned TOML
+//! files with errors that name the line.
 
 use std::io::Write;
 use std::path::Path;
 
-use crate::error::{Error, Result};
+use serde::de::DeserializeOwned;
+
+use crate::error::{line_of_offset, Error, Result};
+
+/// Parses TOML text into `T`; a syntax or schema error names the line.
+/// `what` names the kind of file, e.g. "plan file".
+pub fn parse_toml<T: DeserializeOwned>(text: &str, source: &str, what: &str) -> Result<T> {
+    toml::from_str(text).map_err(|e| {
+        let line = e.span().map(|s| line_of_offset(text, s.start)).unwrap_or(1);
+        Error::at_line(
+            source,
+            line,
+            format!("not a valid {what}: {}", e.message().trim()),
+        )
+    })
+}
+
+/// Checks the `format` tag and `version` of one of our files.
+pub fn check_header(
+    source: &str,
+    what: &str,
+    format: &str,
+    expected: &str,
+    version: u32,
+    newest: u32,
+) -> Result<()> {
+    if format != expected {
+        return Err(Error::in_source(
+            source,
+            format!("format is '{format}', expected '{expected}'"),
+        ));
+    }
+    if version == 0 || version > newest {
+        return Err(Error::in_source(
+            source,
+            format!(
+                "{what} version {version} is not supported; this build reads versions 1..={newest}"
+            ),
+        ));
+    }
+    Ok(())
+}
 
 /// Writes `bytes` to `path` atomically.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {

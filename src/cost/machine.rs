@@ -13,7 +13,7 @@ use serde::{Deserialize, Serialize};
 
 use super::bytes::parse_bytes;
 use super::{Dims, NodeSets};
-use crate::error::{line_of_offset, Error, Result};
+use crate::error::{Error, Result};
 use crate::network::Dtype;
 
 /// The `format` value of a machine profile.
@@ -94,14 +94,7 @@ impl Machine {
 
     /// Parses profile text (`source` names it in errors).
     pub fn parse(text: &str, source: &str) -> Result<Machine> {
-        let f: MachineFile = toml::from_str(text).map_err(|e| {
-            let line = e.span().map(|s| line_of_offset(text, s.start)).unwrap_or(1);
-            Error::at_line(
-                source,
-                line,
-                format!("not a valid machine profile: {}", e.message().trim()),
-            )
-        })?;
+        let f: MachineFile = crate::io::parse_toml(text, source, "machine profile")?;
         let bad = |m: String| Error::in_source(source, m);
         if let Some(fmt) = &f.format {
             if fmt != MACHINE_FORMAT {

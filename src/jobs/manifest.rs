@@ -12,7 +12,7 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 
 use super::resources::{MemRequest, TimeRequest};
-use crate::error::{line_of_offset, Error, Result};
+use crate::error::{Error, Result};
 
 /// The `format` value of a manifest.
 pub const MANIFEST_FORMAT: &str = "sliceplan-jobs";
@@ -99,32 +99,15 @@ pub fn read_manifest(dir: &Path) -> Result<Manifest> {
     let path = dir.join(super::MANIFEST_FILE);
     let text = std::fs::read_to_string(&path).map_err(|e| Error::read(&path, e))?;
     let source = path.display().to_string();
-    let m: Manifest = toml::from_str(&text).map_err(|e| {
-        let line = e
-            .span()
-            .map(|s| line_of_offset(&text, s.start))
-            .unwrap_or(1);
-        Error::at_line(
-            &source,
-            line,
-            format!("not a valid job manifest: {}", e.message().trim()),
-        )
-    })?;
-    if m.format != MANIFEST_FORMAT {
-        return Err(Error::in_source(
-            &source,
-            format!("format is '{}', expected '{MANIFEST_FORMAT}'", m.format),
-        ));
-    }
-    if m.version == 0 || m.version > MANIFEST_VERSION {
-        return Err(Error::in_source(
-            &source,
-            format!(
-                "manifest version {} is not supported; this build reads versions 1..={MANIFEST_VERSION}",
-                m.version
-            ),
-        ));
-    }
+    let m: Manifest = crate::io::parse_toml(&text, &source, "job manifest")?;
+    crate::io::check_header(
+        &source,
+        "manifest",
+        &m.format,
+        MANIFEST_FORMAT,
+        m.version,
+        MANIFEST_VERSION,
+    )?;
     let ids_in_order = m
         .chunk_list
         .iter()

@@ -15,7 +15,7 @@ use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
 use crate::cost::machine::Estimate;
-use crate::error::{line_of_offset, Error, Result};
+use crate::error::{Error, Result};
 use crate::network::{Dtype, IndexId, Network};
 use crate::slicing::{CoverReport, FrontierRow};
 use crate::tree::Tree;
@@ -208,32 +208,15 @@ impl Plan {
 pub fn read_plan(path: &Path) -> Result<Plan> {
     let text = std::fs::read_to_string(path).map_err(|e| Error::read(path, e))?;
     let source = path.display().to_string();
-    let plan: Plan = toml::from_str(&text).map_err(|e| {
-        let line = e
-            .span()
-            .map(|s| line_of_offset(&text, s.start))
-            .unwrap_or(1);
-        Error::at_line(
-            &source,
-            line,
-            format!("not a valid plan file: {}", e.message().trim()),
-        )
-    })?;
-    if plan.format != PLAN_FORMAT {
-        return Err(Error::in_source(
-            &source,
-            format!("format is '{}', expected '{PLAN_FORMAT}'", plan.format),
-        ));
-    }
-    if plan.version == 0 || plan.version > PLAN_VERSION {
-        return Err(Error::in_source(
-            &source,
-            format!(
-                "plan version {} is not supported; this build reads versions 1..={PLAN_VERSION}",
-                plan.version
-            ),
-        ));
-    }
+    let plan: Plan = crate::io::parse_toml(&text, &source, "plan file")?;
+    crate::io::check_header(
+        &source,
+        "plan",
+        &plan.format,
+        PLAN_FORMAT,
+        plan.version,
+        PLAN_VERSION,
+    )?;
     plan.tree()
         .map_err(|e| Error::in_source(&source, e.to_string()))?;
     Ok(plan)

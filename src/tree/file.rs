@@ -19,7 +19,7 @@ use std::path::Path;
 use serde::{Deserialize, Serialize};
 
 use super::{parse_nested, Tree};
-use crate::error::{line_of_offset, Error, Result};
+use crate::error::{Error, Result};
 use crate::network::Network;
 
 /// The `format` value of a tree file.
@@ -50,26 +50,15 @@ pub fn read_tree_file(path: &Path, net: &Network) -> Result<Tree> {
 
 /// Parses tree-file text (`source` names it in errors).
 pub fn parse_tree_text(text: &str, source: &str, net: &Network) -> Result<Tree> {
-    let file: TreeFile = toml::from_str(text).map_err(|e| {
-        let line = e.span().map(|s| line_of_offset(text, s.start)).unwrap_or(1);
-        Error::at_line(
-            source,
-            line,
-            format!("not a valid tree file: {}", e.message()),
-        )
-    })?;
-    if file.format != TREE_FORMAT {
-        return Err(Error::in_source(
-            source,
-            format!("format is '{}', expected '{TREE_FORMAT}'", file.format),
-        ));
-    }
-    if file.version == 0 || file.version > TREE_VERSION {
-        return Err(Error::in_source(
-            source,
-            format!("tree file version {} is not supported; this build reads versions 1..={TREE_VERSION}", file.version),
-        ));
-    }
+    let file: TreeFile = crate::io::parse_toml(text, source, "tree file")?;
+    crate::io::check_header(
+        source,
+        "tree file",
+        &file.format,
+        TREE_FORMAT,
+        file.version,
+        TREE_VERSION,
+    )?;
     let fingerprint = net.fingerprint();
     if let Some(fp) = &file.network {
         if *fp != fingerprint {
