@@ -114,3 +114,36 @@ fn seating_ring_and_ladder_values() {
     );
     assert!((z - 121.72980333428153).abs() < 1e-12 * z, "{z}");
 }
+
+#[test]
+fn ising_demo_lattice_matches_a_row_transfer_matrix() {
+    // demo-data/ising-6x6.toml: ferromagnetic Ising model (J = 1, no field)
+    // on a 6x6 open lattice at beta = 0.3. Independent value: the row
+    // transfer matrix. A row configuration s (6 spins) has weight
+    // exp(beta * sum of horizontal neighbour products); consecutive rows
+    // couple by exp(beta * sum_c s_c t_c). Z = 1^T (D T)^5 D 1 with D the
+    // diagonal of row weights and T the vertical coupling (64 x 64).
+    let beta = 0.3f64;
+    let l = 6;
+    let spin = |s: usize, c: usize| if (s >> c) & 1 == 0 { 1.0 } else { -1.0 };
+    let row_weight =
+        |s: usize| (beta * (0..l - 1).map(|c| spin(s, c) * spin(s, c + 1)).sum::<f64>()).exp();
+    let couple =
+        |s: usize, t: usize| (beta * (0..l).map(|c| spin(s, c) * spin(t, c)).sum::<f64>()).exp();
+    let n = 1 << l;
+    let mut v: Vec<f64> = (0..n).map(row_weight).collect();
+    for _ in 1..l {
+        v = (0..n)
+            .map(|t| row_weight(t) * (0..n).map(|s| v[s] * couple(s, t)).sum::<f64>())
+            .collect();
+    }
+    let want: f64 = v.iter().sum();
+    let net = load(&demo("ising-6x6.toml"), &LoadOptions::default()).unwrap();
+    let got = scalar(&net);
+    assert!(
+        (got.re - want).abs() <= 1e-10 * want,
+        "{} vs {want}",
+        got.re
+    );
+    assert!(got.im.abs() <= 1e-10 * want);
+}
