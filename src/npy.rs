@@ -28,14 +28,15 @@ pub fn read_npy(path: &Path) -> Result<NpyArray> {
         .map_err(|e| bad(format!("not a valid .npy file: {e}")))?;
     let shape = npy.shape().to_vec();
     let order = npy.order();
-    let type_str =
-        match npy.dtype() {
-            npyz::DType::Plain(t) => t,
-            other => return Err(bad(format!(
+    let type_str = match npy.dtype() {
+        npyz::DType::Plain(t) => t,
+        other => {
+            return Err(bad(format!(
                 "unsupported .npy element type {}; use float32, float64, complex64 or complex128",
                 other.descr()
-            ))),
-        };
+            )))
+        }
+    };
     let size = type_str.size_field();
     let read_err = |e: std::io::Error| bad(format!("cannot read the data: {e}"));
     let values: Vec<Complex64> = match (type_str.type_char(), size) {

@@ -7,6 +7,8 @@
 //! (a hash of everything that changes the arithmetic: network fingerprint,
 //! tree, slice set, dtype) is what partial results carry.
 
+mod build;
+
 use std::path::{Path, PathBuf};
 
 use serde::{Deserialize, Serialize};

@@ -1,0 +1,442 @@
+//! Running slices of a plan: chunk after chunk, slices in parallel when the
+//! budget allows several at once, one partial written atomically per chunk.
+//!
+//! # Memory
+//!
+//! The plan's per-slice prediction ([`predicted_slice_peak_bytes`], the cost
+//! model under [`PeakModel::EXECUTOR`]) covers everything one slice
+//! allocates: inputs copied because the kernel needs another layout,
+//! intermediates, the operand copies of each multiply, and the final
+//! permuted output. Every such buffer counts on the slice's own meter, and a
+//! slice that holds more than predicted fails the run. Not covered, and
+//! reported separately: the full input tensors (held once per process and
+//! shared by all slices), the chunk's running sum, faer's small packing
+//! buffers, and the program itself; with `k` slices at once the process
+//! holds up to `k` slices' working sets.
+
+use std::collections::BTreeMap;
+use std::ops::Range;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+use std::time::Instant;
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use super::accumulate::Accumulator;
+use super::dense::Dense;
+use super::matmul::{FaerMatMul, MatMul};
+use super::memory::{max_resident_bytes, Meter};
+use super::output::OutputLayout;
+use super::pairwise::Context;
+use super::partial::{
+    chunk_file_name, range_file_name, read_partial, write_partial, ChunkId, Partial, PartialHeader,
+};
+use super::scalar::{lanes_per_element, Scalar};
+use super::slice::Prepared;
+use crate::cost::{NodeSets, PeakModel};
+use crate::error::{Error, Result};
+use crate::jobs::chunk_range;
+use crate::network::{Dtype, IndexId, Network};
+use crate::num::{product, Count};
+use crate::plan::Plan;
+use crate::tree::Tree;
+
+/// Which slices to run.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Selection {
+    /// One chunk.
+    Chunk(ChunkId),
+    /// An explicit slice range.
+    Slices(Range<u64>),
+    /// Every chunk of a split into `of` chunks.
+    AllChunks {
+        /// The number of chunks.
+        of: u64,
+    },
+}
+
+/// One unit of work: a slice range and the partial it writes.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ChunkJob {
+    /// The chunk, when chosen by chunk.
+    pub chunk: Option<ChunkId>,
+    /// The slices.
+    pub slices: Range<u64>,
+    /// Where the partial goes.
+    pub path: PathBuf,
+}
+
+/// The jobs of a selection over `total` slices, writing into `dir`.
+pub fn chunk_jobs(total: u64, selection: &Selection, dir: &Path) -> Result<Vec<ChunkJob>> {
+    let job = |chunk: ChunkId| ChunkJob {
+        chunk: Some(chunk),
+        slices: chunk_range(total, chunk.index, chunk.of),
+        path: dir.join(chunk_file_name(chunk)),
+    };
+    match selection {
+        Selection::Chunk(c) => {
+            if c.of == 0 || c.index >= c.of {
+                return Err(Error::usage(format!(
+                    "--chunk {} --of {}: the chunk number must be below the chunk count (0..{})",
+                    c.index, c.of, c.of
+                )));
+            }
+            Ok(vec![job(*c)])
+        }
+        Selection::Slices(r) => {
+            if r.start >= r.end || r.end > total {
+                return Err(Error::usage(format!(
+                    "--slices {}..{}: give a non-empty range A..B with B at most the plan's {total} slices",
+                    r.start, r.end
+                )));
+            }
+            Ok(vec![ChunkJob {
+                chunk: None,
+                slices: r.clone(),
+                path: dir.join(range_file_name(r)),
+            }])
+        }
+        Selection::AllChunks { of } => {
+            if *of == 0 || *of > total.max(1) {
+                return Err(Error::usage(format!(
+                    "--of {of}: the chunk count must be from 1 to the plan's {total} slices"
+                )));
+            }
+            Ok((0..*of)
+                .map(|index| job(ChunkId { index, of: *of }))
+                .collect())
+        }
+    }
+}
+
+/// How to run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct RunOptions {
+    /// Threads to use in all.
+    pub threads: usize,
+    /// Re-run chunks whose valid partial already exists.
+    pub force: bool,
+}
+
+/// What the runner reports while it works.
+#[derive(Debug, Clone, Copy)]
+pub enum Progress<'a> {
+    /// About to run `slices` slices in `chunks` chunks (skipped ones included).
+    Begin {
+        /// Slices in all selected chunks.
+        slices: u64,
+        /// Chunks selected.
+        chunks: usize,
+    },
+    /// `n` more slices are done (or were skipped with their chunk).
+    Slices(u64),
+    /// A chunk's partial was written, or already existed and was kept.
+    ChunkDone {
+        /// The chunk.
+        job: &'a ChunkJob,
+        /// True when it was skipped because a valid partial existed.
+        skipped: bool,
+    },
+}
+
+/// Memory figures of a run (bytes).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct MemoryFigures {
+    /// Per-slice peak predicted by the cost model for this plan's tree, order
+    /// and slice set under the executor's rule.
+    pub predicted_per_slice: u64,
+    /// The figure stored in the plan file.
+    pub plan_predicted_per_slice: String,
+    /// The most any slice held, by the executor's own count.
+    pub measured_per_slice: u64,
+    /// The full input tensors, held once per process.
+    pub inputs: u64,
+    /// The chunk's running sum at its largest.
+    pub accumulator: u64,
+    /// The most the process held by the executor's count (inputs plus the
+    /// slices running at once).
+    pub tracked_process_peak: u64,
+    /// The process's maximum resident size at the end (VmHWM), when known.
+    pub max_resident: Option<u64>,
+}
+
+/// What a run did.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RunReport {
+    /// The plan's arithmetic fingerprint.
+    pub plan_fingerprint: String,
+    /// Slices in the plan.
+    pub slices_total: u64,
+    /// Slices contracted in this run.
+    pub slices_run: u64,
+    /// Chunks contracted and written.
+    pub chunks_run: usize,
+    /// Chunks skipped because their valid partial existed.
+    pub chunks_skipped: usize,
+    /// The partial files of the selected chunks.
+    pub partials: Vec<PathBuf>,
+    /// Threads used.
+    pub threads: usize,
+    /// Slices run at the same time.
+    pub slices_at_once: usize,
+    /// Wall time of the contraction, seconds.
+    pub seconds: f64,
+    /// Memory.
+    pub memory: MemoryFigures,
+}
+
+/// The cost model's per-slice peak in bytes for running `tree` in `order`
+/// with `sliced` fixed, under [`PeakModel::EXECUTOR`]; `None` beyond 2^64.
+pub fn predicted_slice_peak_bytes(
+    net: &Network,
+    tree: &Tree,
+    order: &[usize],
+    sliced: &[IndexId],
+    dtype: Dtype,
+) -> Option<u64> {
+    let sets = NodeSets::new(net, tree);
+    let dims: Vec<u64> = net
+        .dims()
+        .iter()
+        .enumerate()
+        .map(|(e, &d)| if sliced.contains(&e) { 1 } else { d })
+        .collect();
+    let sizes: Vec<Count> = sets
+        .indices
+        .iter()
+        .map(|s| match product(s.iter().map(|&e| dims[e])) {
+            Some(v) => Count::from_u128(v),
+            None => Count::from_log2(f64::INFINITY),
+        })
+        .collect();
+    let peak = sets.live_peak(&sizes, order, PeakModel::EXECUTOR).exact?;
+    u64::try_from(peak.checked_mul(dtype.bytes() as u128)?).ok()
+}
+
+/// Runs `jobs` of `plan` on `net` with faer's multiply.
+pub fn run_plan(
+    plan: &Plan,
+    net: &Network,
+    jobs: &[ChunkJob],
+    options: &RunOptions,
+    progress: &(dyn Fn(Progress<'_>) + Sync),
+) -> Result<RunReport> {
+    run_plan_with(&FaerMatMul, plan, net, jobs, options, progress)
+}
+
+/// Runs `jobs` of `plan` on `net` with the given multiply back end.
+pub fn run_plan_with<K: MatMul>(
+    mm: &K,
+    plan: &Plan,
+    net: &Network,
+    jobs: &[ChunkJob],
+    options: &RunOptions,
+    progress: &(dyn Fn(Progress<'_>) + Sync),
+) -> Result<RunReport> {
+    match plan.dtype {
+        Dtype::F32 => run_typed::<f32, K>(mm, plan, net, jobs, options, progress),
+        Dtype::F64 => run_typed::<f64, K>(mm, plan, net, jobs, options, progress),
+        Dtype::C64 => {
+            run_typed::<num_complex::Complex32, K>(mm, plan, net, jobs, options, progress)
+        }
+        Dtype::C128 => {
+            run_typed::<num_complex::Complex64, K>(mm, plan, net, jobs, options, progress)
+        }
+    }
+}
+
+/// Checks that `plan` fits `net` and that `net` has values to contract.
+pub fn check_runnable(plan: &Plan, net: &Network) -> Result<()> {
+    plan.check_against(net)?;
+    if let Some(t) = net.tensors.iter().find(|t| t.values.is_none()) {
+        return Err(Error::in_source(
+            &net.name,
+            format!("tensor '{}' has no values, so the network cannot be contracted; give `values`, `npy` or `fill` for every tensor", t.name),
+        ));
+    }
+    Ok(())
+}
+
+struct Setup<'p, T, K> {
+    mm: &'p K,
+    plan: &'p Plan,
+    prepared: Prepared<T>,
+    layout: OutputLayout,
+    process: Arc<Meter>,
+    limit: u64,
+}
+
+impl<T: Scalar, K: MatMul> Setup<'_, T, K> {
+    /// Runs slice `s`; returns its block number, block and tracked peak.
+    fn slice(&self, s: u64, threads: usize) -> Result<(u64, Dense<T>, u64)> {
+        let values = self.plan.slice_assignment(s);
+        let meter = Meter::child(&self.process);
+        let ctx = Context {
+            mm: self.mm,
+            meter: &meter,
+            threads,
+        };
+        let out = self.prepared.run_slice(&ctx, &values);
+        let peak = meter.peak();
+        if peak > self.limit {
+            return Err(Error::Cannot(format!(
+                "slice {s} held {peak} bytes, more than the {} bytes the cost model predicts per slice; the executor broke its memory rule (a bug: please report it with the plan)",
+                self.limit
+            )));
+        }
+        Ok((self.layout.block_of(&values), out, peak))
+    }
+}
+
+fn run_typed<T: Scalar, K: MatMul>(
+    mm: &K,
+    plan: &Plan,
+    net: &Network,
+    jobs: &[ChunkJob],
+    options: &RunOptions,
+    progress: &(dyn Fn(Progress<'_>) + Sync),
+) -> Result<RunReport> {
+    check_runnable(plan, net)?;
+    let total = plan
+        .slice_count()
+        .ok_or_else(|| Error::Cannot("the plan has more than 2^64 slices".into()))?;
+    let tree = plan.tree()?;
+    let sliced = plan.sliced_ids(net)?;
+    let limit = predicted_slice_peak_bytes(net, &tree, &plan.order, &sliced, plan.dtype)
+        .ok_or_else(|| {
+            Error::Cannot(
+                "one slice of this plan needs more than 2^64 bytes; it cannot be run".into(),
+            )
+        })?;
+    let fingerprint = plan.fingerprint();
+    let layout = OutputLayout::new(net, &sliced);
+    let started = Instant::now();
+    let process = Meter::new();
+    let setup = Setup {
+        mm,
+        plan,
+        prepared: Prepared::<T>::new(net, &tree, &plan.order, &sliced, &process)?,
+        layout,
+        process,
+        limit,
+    };
+    let threads = options.threads.max(1);
+    let at_once = (plan.slices_at_once.max(1).min(threads as u64)) as usize;
+    let per_slice_threads = (threads / at_once).max(1);
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| Error::Cannot(format!("cannot start {threads} threads: {e}")))?;
+    let w = lanes_per_element(plan.dtype);
+    let block_len = setup.prepared.block_len();
+    progress(Progress::Begin {
+        slices: jobs.iter().map(|j| j.slices.end - j.slices.start).sum(),
+        chunks: jobs.len(),
+    });
+    let (mut measured, mut acc_bytes, mut slices_run, mut chunks_run, mut skipped) =
+        (0u64, 0u64, 0u64, 0usize, 0usize);
+    for job in jobs {
+        if !options.force && existing_is_valid(job, &fingerprint, plan.dtype, &setup.layout) {
+            skipped += 1;
+            progress(Progress::Slices(job.slices.end - job.slices.start));
+            progress(Progress::ChunkDone { job, skipped: true });
+            continue;
+        }
+        let mut blocks: BTreeMap<u64, Accumulator> = BTreeMap::new();
+        let mut s = job.slices.start;
+        while s < job.slices.end {
+            let e = (s + at_once as u64).min(job.slices.end);
+            // Results are added in slice order, so the sum does not depend on
+            // which thread finished first.
+            let results: Vec<Result<(u64, Dense<T>, u64)>> = pool.install(|| {
+                if at_once > 1 {
+                    (s..e)
+                        .into_par_iter()
+                        .map(|x| setup.slice(x, per_slice_threads))
+                        .collect()
+                } else {
+                    vec![setup.slice(s, threads)]
+                }
+            });
+            for r in results {
+                let (key, out, peak) = r?;
+                measured = measured.max(peak);
+                blocks
+                    .entry(key)
+                    .or_insert_with(|| Accumulator::new(block_len, w))
+                    .add_scalars(out.data());
+            }
+            acc_bytes = acc_bytes.max(blocks.values().map(Accumulator::bytes).sum());
+            slices_run += e - s;
+            progress(Progress::Slices(e - s));
+            s = e;
+        }
+        let mut lanes = Vec::with_capacity(blocks.len() * block_len * w);
+        for acc in blocks.values() {
+            lanes.extend(acc.finish());
+        }
+        let partial = Partial {
+            header: PartialHeader {
+                plan_fingerprint: fingerprint.clone(),
+                chunk: job.chunk,
+                first_slice: job.slices.start,
+                end_slice: job.slices.end,
+                slices_summed: job.slices.end - job.slices.start,
+                dtype: plan.dtype,
+                shape: setup.layout.shape.clone(),
+                block_shape: setup.layout.block_shape.clone(),
+                blocks: blocks.keys().copied().collect(),
+            },
+            lanes,
+        };
+        write_partial(&job.path, &partial)?;
+        chunks_run += 1;
+        progress(Progress::ChunkDone {
+            job,
+            skipped: false,
+        });
+    }
+    debug_assert!(total >= slices_run);
+    Ok(RunReport {
+        plan_fingerprint: fingerprint,
+        slices_total: total,
+        slices_run,
+        chunks_run,
+        chunks_skipped: skipped,
+        partials: jobs.iter().map(|j| j.path.clone()).collect(),
+        threads,
+        slices_at_once: at_once,
+        seconds: started.elapsed().as_secs_f64(),
+        memory: MemoryFigures {
+            predicted_per_slice: limit,
+            plan_predicted_per_slice: plan.predicted.per_slice_peak_bytes.clone(),
+            measured_per_slice: measured,
+            inputs: setup.prepared.input_bytes(),
+            accumulator: acc_bytes,
+            tracked_process_peak: setup.process.peak(),
+            max_resident: max_resident_bytes(),
+        },
+    })
+}
+
+/// True when the job's partial exists, passes its checksum and belongs to
+/// this plan, slice range and output.
+fn existing_is_valid(
+    job: &ChunkJob,
+    fingerprint: &str,
+    dtype: Dtype,
+    layout: &OutputLayout,
+) -> bool {
+    match read_partial(&job.path) {
+        Ok(p) => {
+            let h = &p.header;
+            h.plan_fingerprint == fingerprint
+                && h.slices() == job.slices
+                && h.dtype == dtype
+                && h.shape == layout.shape
+                && h.block_shape == layout.block_shape
+        }
+        Err(_) => false,
+    }
+}
