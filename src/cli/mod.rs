@@ -5,8 +5,10 @@
 //! that validates them (cheaply, before any long work), calls the library and
 //! returns what to print on stdout with the exit code.
 
+mod gather;
 mod inspect;
 mod net_args;
+mod run;
 
 use clap::{Parser, Subcommand};
 
@@ -48,12 +50,20 @@ pub enum Command {
     /// Summarise a network and price a contraction tree.
     #[command(after_help = inspect::EXAMPLES)]
     Inspect(inspect::InspectArgs),
+    /// Contract slices of a plan on this machine and write their partials.
+    #[command(after_help = run::EXAMPLES)]
+    Run(run::RunArgs),
+    /// Check the partials of a plan, sum them and print the result.
+    #[command(after_help = gather::EXAMPLES)]
+    Gather(gather::GatherArgs),
 }
 
 /// Runs a parsed command line.
 pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
+        Command::Run(args) => run::run(args),
+        Command::Gather(args) => gather::run(args),
     }
 }
 

@@ -19,6 +19,7 @@ pub mod npy_out;
 pub mod output;
 pub mod pairwise;
 pub mod partial;
+pub mod report;
 pub mod runner;
 pub mod scalar;
 pub mod slice;
