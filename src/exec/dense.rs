@@ -1,14 +1,11 @@
-//! Dense tensors (owned, row-major, metered) and strided views of them, with
-//! the one copy routine the executor uses: permute into a new index order
-//! while summing out indices the result does not keep.
+//! Dense tensors (owned, row-major, metered), strided views of them, and the
+//! row-major odometer the copy routines walk with.
 //!
 //! Tensors list only their *active* indices: those with dimension above one
 //! that are not sliced. An index of dimension one adds nothing to addressing,
 //! so dropping it keeps the layout logic free of special cases.
 
-use std::sync::Arc;
-
-use super::memory::{Held, Meter};
+use super::memory::Held;
 use super::scalar::Scalar;
 use crate::network::IndexId;
 
@@ -133,137 +130,9 @@ pub fn for_each_offset(
     }
 }
 
-/// Edge of the square tiles used when a copy transposes.
-const TILE: usize = 32;
-
-/// Copies `src` into a new row-major tensor over `out` (every entry must be
-/// an index of `src`), summing over the indices of `src` not in `out`.
-///
-/// The result is counted on `meter`. A transposing copy is done in
-/// `TILE` x `TILE` tiles so that neither side is read against the cache.
-pub fn permute_sum<T: Scalar>(src: &View<'_, T>, out: &[IndexId], meter: &Arc<Meter>) -> Dense<T> {
-    let pos: Vec<usize> = out
-        .iter()
-        .map(|&e| {
-            src.position(e)
-                .expect("output indices come from the source")
-        })
-        .collect();
-    let dims: Vec<usize> = pos.iter().map(|&p| src.dims[p]).collect();
-    let sstr: Vec<usize> = pos.iter().map(|&p| src.strides[p]).collect();
-    let dstr = row_major_strides(&dims);
-    let summed: Vec<usize> = (0..src.indices.len())
-        .filter(|p| !pos.contains(p))
-        .collect();
-    let mut held = Held::zeroed(dims.iter().product(), meter);
-    let dst = held.as_mut_slice();
-    let data = &src.data[src.offset..];
-    if !summed.is_empty() {
-        let rdims: Vec<usize> = summed.iter().map(|&p| src.dims[p]).collect();
-        let rstr: Vec<usize> = summed.iter().map(|&p| src.strides[p]).collect();
-        let mut extra = Vec::with_capacity(rdims.iter().product());
-        for_each_offset(&rdims, &rstr, &rstr, |o, _| extra.push(o));
-        for_each_offset(&dims, &sstr, &dstr, |so, d| {
-            let mut acc = T::default();
-            for &x in &extra {
-                acc += data[so + x];
-            }
-            dst[d] = acc;
-        });
-    } else if let Some(last) = dims.len().checked_sub(1) {
-        let sl = sstr[last];
-        let dl = dims[last];
-        // The axis read most contiguously, if it is not the last one.
-        let q = (0..last).min_by_key(|&k| sstr[k]).filter(|&k| sstr[k] < sl);
-        match q {
-            Some(q) => {
-                let outer: Vec<usize> = (0..last).filter(|&k| k != q).collect();
-                let odims: Vec<usize> = outer.iter().map(|&k| dims[k]).collect();
-                let os: Vec<usize> = outer.iter().map(|&k| sstr[k]).collect();
-                let od: Vec<usize> = outer.iter().map(|&k| dstr[k]).collect();
-                let (dq, sq, tq) = (dims[q], sstr[q], dstr[q]);
-                for_each_offset(&odims, &os, &od, |so, d| {
-                    for qb in (0..dq).step_by(TILE) {
-                        for pb in (0..dl).step_by(TILE) {
-                            for p in pb..(pb + TILE).min(dl) {
-                                for i in qb..(qb + TILE).min(dq) {
-                                    dst[d + i * tq + p] = data[so + i * sq + p * sl];
-                                }
-                            }
-                        }
-                    }
-                });
-            }
-            None => {
-                let odims = &dims[..last];
-                for_each_offset(odims, &sstr[..last], &dstr[..last], |so, d| {
-                    let row = &mut dst[d..d + dl];
-                    if sl == 1 {
-                        row.copy_from_slice(&data[so..so + dl]);
-                    } else {
-                        for (j, x) in row.iter_mut().enumerate() {
-                            *x = data[so + j * sl];
-                        }
-                    }
-                });
-            }
-        }
-    } else {
-        dst[0] = data[0];
-    }
-    Dense::new(out.to_vec(), dims, held)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn arange(n: usize) -> Vec<f64> {
-        (0..n).map(|x| x as f64).collect()
-    }
-
-    #[test]
-    fn transposes_a_matrix() {
-        let meter = Meter::new();
-        // A 3x70 matrix (wider than a tile) with A[i][j] = 70 i + j.
-        let data = arange(210);
-        let v = View {
-            data: &data,
-            offset: 0,
-            indices: vec![0, 1],
-            dims: vec![3, 70],
-            strides: vec![70, 1],
-        };
-        let t = permute_sum(&v, &[1, 0], &meter);
-        assert_eq!(t.dims, vec![70, 3]);
-        for j in 0..70 {
-            for i in 0..3 {
-                assert_eq!(t.data()[j * 3 + i], (70 * i + j) as f64);
-            }
-        }
-        assert_eq!(meter.current(), 210 * 8);
-    }
-
-    #[test]
-    fn sums_out_dropped_indices() {
-        let meter = Meter::new();
-        // T[a][b][c] = 12 a + 4 b + c over 2x3x4; sum over b:
-        // S[c][a] = sum_b (12 a + 4 b + c) = 36 a + 12 + 3 c.
-        let data = arange(24);
-        let v = View {
-            data: &data,
-            offset: 0,
-            indices: vec![7, 8, 9],
-            dims: vec![2, 3, 4],
-            strides: vec![12, 4, 1],
-        };
-        let s = permute_sum(&v, &[9, 7], &meter);
-        for c in 0..4 {
-            for a in 0..2 {
-                assert_eq!(s.data()[c * 2 + a], (36 * a + 12 + 3 * c) as f64);
-            }
-        }
-    }
 
     #[test]
     fn odometer_visits_in_row_major_order() {

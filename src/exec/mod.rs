@@ -11,6 +11,7 @@
 //! partials into the result, which [`npy_out`] writes as `.npy`.
 
 pub mod accumulate;
+pub mod chunks;
 pub mod dense;
 pub mod gather;
 pub mod matmul;
@@ -19,13 +20,13 @@ pub mod npy_out;
 pub mod output;
 pub mod pairwise;
 pub mod partial;
+pub mod permute;
 pub mod report;
 pub mod runner;
 pub mod scalar;
 pub mod slice;
 pub mod verify;
 
+pub use chunks::{chunk_jobs, ChunkJob, Selection};
 pub use gather::{gather, GatherOutcome, Gathered, Incomplete};
-pub use runner::{
-    chunk_jobs, run_plan, run_plan_with, ChunkJob, Progress, RunOptions, RunReport, Selection,
-};
+pub use runner::{run_plan, run_plan_with, Progress, RunOptions, RunReport};

@@ -28,9 +28,10 @@
 
 use std::sync::Arc;
 
-use super::dense::{for_each_offset, permute_sum, Dense, View};
+use super::dense::{for_each_offset, Dense, View};
 use super::matmul::{MatMul, MatView};
 use super::memory::{Held, Meter};
+use super::permute::permute_sum;
 use super::scalar::Scalar;
 use crate::network::IndexId;
 

@@ -15,8 +15,7 @@
 //! holds up to `k` slices' working sets.
 
 use std::collections::BTreeMap;
-use std::ops::Range;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::sync::Arc;
 use std::time::Instant;
 
@@ -24,91 +23,21 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use super::accumulate::Accumulator;
+use super::chunks::ChunkJob;
 use super::dense::Dense;
 use super::matmul::{FaerMatMul, MatMul};
 use super::memory::{max_resident_bytes, Meter};
 use super::output::OutputLayout;
 use super::pairwise::Context;
-use super::partial::{
-    chunk_file_name, range_file_name, read_partial, write_partial, ChunkId, Partial, PartialHeader,
-};
+use super::partial::{read_partial, write_partial, Partial, PartialHeader};
 use super::scalar::{lanes_per_element, Scalar};
 use super::slice::Prepared;
 use crate::cost::{NodeSets, PeakModel};
 use crate::error::{Error, Result};
-use crate::jobs::chunk_range;
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::{product, Count};
 use crate::plan::Plan;
 use crate::tree::Tree;
-
-/// Which slices to run.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub enum Selection {
-    /// One chunk.
-    Chunk(ChunkId),
-    /// An explicit slice range.
-    Slices(Range<u64>),
-    /// Every chunk of a split into `of` chunks.
-    AllChunks {
-        /// The number of chunks.
-        of: u64,
-    },
-}
-
-/// One unit of work: a slice range and the partial it writes.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct ChunkJob {
-    /// The chunk, when chosen by chunk.
-    pub chunk: Option<ChunkId>,
-    /// The slices.
-    pub slices: Range<u64>,
-    /// Where the partial goes.
-    pub path: PathBuf,
-}
-
-/// The jobs of a selection over `total` slices, writing into `dir`.
-pub fn chunk_jobs(total: u64, selection: &Selection, dir: &Path) -> Result<Vec<ChunkJob>> {
-    let job = |chunk: ChunkId| ChunkJob {
-        chunk: Some(chunk),
-        slices: chunk_range(total, chunk.index, chunk.of),
-        path: dir.join(chunk_file_name(chunk)),
-    };
-    match selection {
-        Selection::Chunk(c) => {
-            if c.of == 0 || c.index >= c.of {
-                return Err(Error::usage(format!(
-                    "--chunk {} --of {}: the chunk number must be below the chunk count (0..{})",
-                    c.index, c.of, c.of
-                )));
-            }
-            Ok(vec![job(*c)])
-        }
-        Selection::Slices(r) => {
-            if r.start >= r.end || r.end > total {
-                return Err(Error::usage(format!(
-                    "--slices {}..{}: give a non-empty range A..B with B at most the plan's {total} slices",
-                    r.start, r.end
-                )));
-            }
-            Ok(vec![ChunkJob {
-                chunk: None,
-                slices: r.clone(),
-                path: dir.join(range_file_name(r)),
-            }])
-        }
-        Selection::AllChunks { of } => {
-            if *of == 0 || *of > total.max(1) {
-                return Err(Error::usage(format!(
-                    "--of {of}: the chunk count must be from 1 to the plan's {total} slices"
-                )));
-            }
-            Ok((0..*of)
-                .map(|index| job(ChunkId { index, of: *of }))
-                .collect())
-        }
-    }
-}
 
 /// How to run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

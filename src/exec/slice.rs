@@ -11,10 +11,11 @@
 
 use std::sync::Arc;
 
-use super::dense::{permute_sum, row_major_strides, Dense, View};
+use super::dense::{row_major_strides, Dense, View};
 use super::matmul::MatMul;
 use super::memory::{Held, Meter};
 use super::pairwise::{contract, Context, Operand};
+use super::permute::permute_sum;
 use super::scalar::Scalar;
 use crate::cost::NodeSets;
 use crate::error::{Error, Result};
