@@ -264,3 +264,34 @@ fn write_demo_case() {
     let dir = std::path::PathBuf::from(std::env::var("SLICEPLAN_DEMO_DIR").unwrap());
     grid_case(&dir);
 }
+
+#[test]
+fn networks_that_cannot_be_contracted_as_planned_exit_2() {
+    let dir = tempfile::tempdir().unwrap();
+    // Structure only: no values to contract.
+    let bare = sliceplan::generate::lattice(&[2, 2], 2, false).unwrap();
+    let plan = Plan::for_tree(&bare, "bare.toml", &Tree::left_deep(4), &[0], Dtype::F64, 0);
+    write_case(dir.path(), "bare", &bare, &plan);
+    let o = sliceplan(dir.path(), &["run", "bare.plan.toml", "--all"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(stderr(&o).contains("has no values"), "{}", stderr(&o));
+    // Complex values given inline, but a real dtype in the plan.
+    let mut b = sliceplan::network::NetworkBuilder::new("cx");
+    b.declare("i", 2, None).unwrap();
+    let v = sliceplan::network::Values::Inline {
+        re: vec![1.0, 2.0],
+        im: Some(vec![0.0, 1.0]),
+    };
+    b.tensor("A", &["i"], Some(v.clone()), None).unwrap();
+    b.tensor("B", &["i"], Some(v), None).unwrap();
+    let cx = b.build().unwrap();
+    let plan = Plan::for_tree(&cx, "cx.toml", &Tree::left_deep(2), &[], Dtype::F64, 0);
+    write_case(dir.path(), "cx", &cx, &plan);
+    let o = sliceplan(dir.path(), &["run", "cx.plan.toml", "--all"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        stderr(&o).contains("tensor 'A' has complex values"),
+        "{}",
+        stderr(&o)
+    );
+}

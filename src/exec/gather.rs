@@ -134,6 +134,12 @@ pub fn gather(plan: &Plan, net: &Network, dir: &Path) -> Result<GatherOutcome> {
         return Ok(GatherOutcome::Incomplete(report));
     }
     let w = lanes_per_element(plan.dtype);
+    if layout.len().checked_mul(16 * w).is_none() {
+        return Err(Error::Cannot(format!(
+            "the output of shape {:?} is too large to hold in memory",
+            layout.shape
+        )));
+    }
     let mut acc = Accumulator::new(layout.len(), w);
     for (path, _) in &accepted {
         // Read again: holding every partial at once could exceed memory.

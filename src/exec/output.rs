@@ -47,9 +47,12 @@ impl OutputLayout {
         }
     }
 
-    /// Elements of the full output.
+    /// Elements of the full output (saturating at `usize::MAX`).
     pub fn len(&self) -> usize {
-        self.shape.iter().product::<u64>() as usize
+        self.shape
+            .iter()
+            .try_fold(1usize, |a, &d| a.checked_mul(usize::try_from(d).ok()?))
+            .unwrap_or(usize::MAX)
     }
 
     /// True for an output without elements (never: dimensions are at least 1).

@@ -177,6 +177,16 @@ pub fn run_plan_with<K: MatMul>(
 
 /// Checks that `plan` fits `net` and that `net` has values to contract.
 pub fn check_runnable(plan: &Plan, net: &Network) -> Result<()> {
+    if plan.tensors != net.num_tensors() {
+        return Err(Error::in_source(
+            "plan",
+            format!(
+                "the plan's tree is over {} tensors, the network has {}",
+                plan.tensors,
+                net.num_tensors()
+            ),
+        ));
+    }
     plan.check_against(net)?;
     if let Some(t) = net.tensors.iter().find(|t| t.values.is_none()) {
         return Err(Error::in_source(
@@ -215,6 +225,100 @@ impl<T: Scalar, K: MatMul> Setup<'_, T, K> {
             )));
         }
         Ok((self.layout.block_of(&values), out, peak))
+    }
+}
+
+/// What one chunk did.
+struct JobStats {
+    skipped: bool,
+    slices_run: u64,
+    peak: u64,
+    accumulator: u64,
+}
+
+/// Everything a chunk needs besides its own range.
+struct JobContext<'a, 'p, T, K> {
+    setup: &'a Setup<'p, T, K>,
+    fingerprint: &'a str,
+    force: bool,
+    progress: &'a (dyn Fn(Progress<'_>) + Sync),
+}
+
+impl<T: Scalar, K: MatMul> JobContext<'_, '_, T, K> {
+    /// Runs one chunk, `at_once` slices at a time (in the current thread
+    /// pool) with `gemm_threads` threads per multiply, and writes its partial.
+    fn run(&self, job: &ChunkJob, at_once: usize, gemm_threads: usize) -> Result<JobStats> {
+        let setup = self.setup;
+        let plan = setup.plan;
+        let len = job.slices.end - job.slices.start;
+        if !self.force && existing_is_valid(job, self.fingerprint, plan.dtype, &setup.layout) {
+            (self.progress)(Progress::Slices(len));
+            (self.progress)(Progress::ChunkDone { job, skipped: true });
+            return Ok(JobStats {
+                skipped: true,
+                slices_run: 0,
+                peak: 0,
+                accumulator: 0,
+            });
+        }
+        let w = lanes_per_element(plan.dtype);
+        let block_len = setup.prepared.block_len();
+        let mut blocks: BTreeMap<u64, Accumulator> = BTreeMap::new();
+        let (mut peak, mut acc_bytes) = (0u64, 0u64);
+        let mut s = job.slices.start;
+        while s < job.slices.end {
+            let e = (s + at_once as u64).min(job.slices.end);
+            // Results are added in slice order, so the sum does not depend on
+            // which thread finished first.
+            let results: Vec<Result<(u64, Dense<T>, u64)>> = if e - s > 1 {
+                (s..e)
+                    .into_par_iter()
+                    .map(|x| setup.slice(x, gemm_threads))
+                    .collect()
+            } else {
+                vec![setup.slice(s, gemm_threads)]
+            };
+            for r in results {
+                let (key, out, p) = r?;
+                peak = peak.max(p);
+                blocks
+                    .entry(key)
+                    .or_insert_with(|| Accumulator::new(block_len, w))
+                    .add_scalars(out.data());
+            }
+            acc_bytes = acc_bytes.max(blocks.values().map(Accumulator::bytes).sum());
+            (self.progress)(Progress::Slices(e - s));
+            s = e;
+        }
+        let mut lanes = Vec::with_capacity(blocks.len() * block_len * w);
+        for acc in blocks.values() {
+            lanes.extend(acc.finish());
+        }
+        let partial = Partial {
+            header: PartialHeader {
+                plan_fingerprint: self.fingerprint.to_string(),
+                chunk: job.chunk,
+                first_slice: job.slices.start,
+                end_slice: job.slices.end,
+                slices_summed: len,
+                dtype: plan.dtype,
+                shape: setup.layout.shape.clone(),
+                block_shape: setup.layout.block_shape.clone(),
+                blocks: blocks.keys().copied().collect(),
+            },
+            lanes,
+        };
+        write_partial(&job.path, &partial)?;
+        (self.progress)(Progress::ChunkDone {
+            job,
+            skipped: false,
+        });
+        Ok(JobStats {
+            skipped: false,
+            slices_run: len,
+            peak,
+            accumulator: acc_bytes,
+        })
     }
 }
 
@@ -257,75 +361,54 @@ fn run_typed<T: Scalar, K: MatMul>(
         .num_threads(threads)
         .build()
         .map_err(|e| Error::Cannot(format!("cannot start {threads} threads: {e}")))?;
-    let w = lanes_per_element(plan.dtype);
-    let block_len = setup.prepared.block_len();
     progress(Progress::Begin {
         slices: jobs.iter().map(|j| j.slices.end - j.slices.start).sum(),
         chunks: jobs.len(),
     });
-    let (mut measured, mut acc_bytes, mut slices_run, mut chunks_run, mut skipped) =
-        (0u64, 0u64, 0u64, 0usize, 0usize);
-    for job in jobs {
-        if !options.force && existing_is_valid(job, &fingerprint, plan.dtype, &setup.layout) {
-            skipped += 1;
-            progress(Progress::Slices(job.slices.end - job.slices.start));
-            progress(Progress::ChunkDone { job, skipped: true });
-            continue;
-        }
-        let mut blocks: BTreeMap<u64, Accumulator> = BTreeMap::new();
-        let mut s = job.slices.start;
-        while s < job.slices.end {
-            let e = (s + at_once as u64).min(job.slices.end);
-            // Results are added in slice order, so the sum does not depend on
-            // which thread finished first.
-            let results: Vec<Result<(u64, Dense<T>, u64)>> = pool.install(|| {
-                if at_once > 1 {
-                    (s..e)
-                        .into_par_iter()
-                        .map(|x| setup.slice(x, per_slice_threads))
+    let ctx = JobContext {
+        setup: &setup,
+        fingerprint: &fingerprint,
+        force: options.force,
+        progress,
+    };
+    let stats: Vec<JobStats> = if at_once > 1 && jobs.len() > 1 {
+        // Several chunks at once, each one slice at a time: chunks are dealt
+        // round-robin to `at_once` lanes so partials appear in about the
+        // order of their chunk numbers.
+        let lanes: Vec<Vec<&ChunkJob>> = (0..at_once)
+            .map(|l| jobs.iter().skip(l).step_by(at_once).collect())
+            .collect();
+        let per_lane: Vec<Result<Vec<JobStats>>> = pool.install(|| {
+            lanes
+                .par_iter()
+                .map(|lane| {
+                    lane.iter()
+                        .map(|job| ctx.run(job, 1, per_slice_threads))
                         .collect()
-                } else {
-                    vec![setup.slice(s, threads)]
-                }
-            });
-            for r in results {
-                let (key, out, peak) = r?;
-                measured = measured.max(peak);
-                blocks
-                    .entry(key)
-                    .or_insert_with(|| Accumulator::new(block_len, w))
-                    .add_scalars(out.data());
-            }
-            acc_bytes = acc_bytes.max(blocks.values().map(Accumulator::bytes).sum());
-            slices_run += e - s;
-            progress(Progress::Slices(e - s));
-            s = e;
-        }
-        let mut lanes = Vec::with_capacity(blocks.len() * block_len * w);
-        for acc in blocks.values() {
-            lanes.extend(acc.finish());
-        }
-        let partial = Partial {
-            header: PartialHeader {
-                plan_fingerprint: fingerprint.clone(),
-                chunk: job.chunk,
-                first_slice: job.slices.start,
-                end_slice: job.slices.end,
-                slices_summed: job.slices.end - job.slices.start,
-                dtype: plan.dtype,
-                shape: setup.layout.shape.clone(),
-                block_shape: setup.layout.block_shape.clone(),
-                blocks: blocks.keys().copied().collect(),
-            },
-            lanes,
-        };
-        write_partial(&job.path, &partial)?;
-        chunks_run += 1;
-        progress(Progress::ChunkDone {
-            job,
-            skipped: false,
+                })
+                .collect()
         });
-    }
+        per_lane
+            .into_iter()
+            .collect::<Result<Vec<_>>>()?
+            .into_iter()
+            .flatten()
+            .collect()
+    } else {
+        let gemm_threads = if at_once > 1 {
+            per_slice_threads
+        } else {
+            threads
+        };
+        jobs.iter()
+            .map(|job| pool.install(|| ctx.run(job, at_once, gemm_threads)))
+            .collect::<Result<_>>()?
+    };
+    let slices_run: u64 = stats.iter().map(|s| s.slices_run).sum();
+    let measured = stats.iter().map(|s| s.peak).max().unwrap_or(0);
+    let acc_bytes = stats.iter().map(|s| s.accumulator).max().unwrap_or(0);
+    let skipped = stats.iter().filter(|s| s.skipped).count();
+    let chunks_run = stats.len() - skipped;
     debug_assert!(total >= slices_run);
     Ok(RunReport {
         plan_fingerprint: fingerprint,

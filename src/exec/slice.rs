@@ -19,7 +19,7 @@ use super::permute::permute_sum;
 use super::scalar::Scalar;
 use crate::cost::NodeSets;
 use crate::error::{Error, Result};
-use crate::network::{values::materialize, IndexId, Network};
+use crate::network::{values::materialize, IndexId, Network, Values};
 use crate::tree::Tree;
 
 /// A plan made ready to run: shared inputs and per-node index lists.
@@ -73,10 +73,21 @@ impl<T: Scalar> Prepared<T> {
             .collect();
         let mut inputs = Vec::with_capacity(net.num_tensors());
         for t in 0..net.num_tensors() {
-            let values: Vec<T> = materialize(net, t)?
-                .into_iter()
-                .map(T::from_complex)
-                .collect();
+            let complex = materialize(net, t)?;
+            // Random fills are documented to use only their real part in a
+            // real dtype; values the user gave must not lose theirs silently.
+            let given = !matches!(net.tensors[t].values, Some(Values::Fill(_)));
+            if given && !T::DTYPE.is_complex() && complex.iter().any(|z| z.im != 0.0) {
+                return Err(Error::in_source(
+                    &net.name,
+                    format!(
+                        "tensor '{}' has complex values, but the plan computes in {}; make a plan with dtype c64 or c128",
+                        net.tensors[t].name,
+                        T::DTYPE
+                    ),
+                ));
+            }
+            let values: Vec<T> = complex.into_iter().map(T::from_complex).collect();
             inputs.push(Held::adopt(values, process));
         }
         Ok(Prepared {
