@@ -30,6 +30,17 @@ impl<T: Copy> MatView<'_, T> {
         self.data[self.offset + i * self.row_stride + j * self.col_stride]
     }
 
+    /// The transposed matrix (no copy: the strides swap).
+    pub fn transposed(self) -> Self {
+        MatView {
+            rows: self.cols,
+            cols: self.rows,
+            row_stride: self.col_stride,
+            col_stride: self.row_stride,
+            ..self
+        }
+    }
+
     /// True when every element lies inside `data`.
     pub fn in_bounds(&self) -> bool {
         if self.rows == 0 || self.cols == 0 {

@@ -24,7 +24,8 @@
 //! above the level before the call thus never exceeds
 //! `max(size a, size b, size result)`: the rule
 //! [`crate::cost::Workspace::PermuteCopies`] prices.
-//! The result is laid out `[batch, rows, cols]`.
+//! The result is laid out `[batch, rows, cols]`, or `[batch, cols, rows]`
+//! when both operands are stored column-major (see the comment on `flip`).
 
 use std::sync::Arc;
 
@@ -141,6 +142,11 @@ pub fn contract<T: Scalar, K: MatMul>(
     };
     let (a_rs, a_cs) = (group_stride(&av, &rows), group_stride(&av, &inner));
     let (b_rs, b_cs) = (group_stride(&bv, &inner), group_stride(&bv, &cols));
+    // A row-major result is computed by the back end as its transpose, so
+    // the operand it then reads as its left one is `b`. When `b` is stored
+    // column-major and `a` is not, writing the result column-major instead
+    // (cols before rows) hands the back end a column-major left operand.
+    let flip = n > 1 && m > 1 && b_rs < b_cs && a_rs < a_cs;
     let nb: usize = batch_dims.iter().product();
     let mut out: Held<T> = Held::zeroed(nb * m * n, ctx.meter);
     let dst = out.as_mut_slice();
@@ -150,7 +156,7 @@ pub fn contract<T: Scalar, K: MatMul>(
         &strides_of(&av, &batch),
         &strides_of(&bv, &batch),
         |oa, ob| {
-            let lhs = MatView {
+            let a = MatView {
                 data: av.data,
                 offset: av.offset + oa,
                 rows: m,
@@ -158,7 +164,7 @@ pub fn contract<T: Scalar, K: MatMul>(
                 row_stride: a_rs,
                 col_stride: a_cs,
             };
-            let rhs = MatView {
+            let b = MatView {
                 data: bv.data,
                 offset: bv.offset + ob,
                 rows: k,
@@ -166,17 +172,23 @@ pub fn contract<T: Scalar, K: MatMul>(
                 row_stride: b_rs,
                 col_stride: b_cs,
             };
-            ctx.mm.matmul(
-                &mut dst[block * m * n..(block + 1) * m * n],
-                lhs,
-                rhs,
-                ctx.threads,
-            );
+            let block_dst = &mut dst[block * m * n..(block + 1) * m * n];
+            if flip {
+                ctx.mm
+                    .matmul(block_dst, b.transposed(), a.transposed(), ctx.threads);
+            } else {
+                ctx.mm.matmul(block_dst, a, b, ctx.threads);
+            }
             block += 1;
         },
     );
-    let indices = [&batch[..], &rows, &cols].concat();
-    let dims = [&batch_dims[..], &row_dims, &col_dims].concat();
+    let (first, second, first_dims, second_dims) = if flip {
+        (&cols, &rows, &col_dims, &row_dims)
+    } else {
+        (&rows, &cols, &row_dims, &col_dims)
+    };
+    let indices = [&batch[..], first, second].concat();
+    let dims = [&batch_dims[..], first_dims, second_dims].concat();
     Dense::new(indices, dims, out)
 }
 
