@@ -4,7 +4,7 @@
 //! a random-circuit plan. Prints figures and ratios; asserts nothing about
 //! time.
 //!
-//! Usage: `exec [all|kernel|memory|throughput] [--quick]`.
+//! Usage: `exec [all|kernel|copies|memory|throughput] [--quick]`.
 
 use std::hint::black_box;
 use std::process::Command;
@@ -45,10 +45,13 @@ fn main() {
         "throughput" => throughput(quick),
         "all" => {
             kernel(threads, quick);
+            copies(quick);
             memory(quick);
             throughput(quick);
         }
-        other => eprintln!("unknown benchmark '{other}'; use all, kernel, memory or throughput"),
+        other => {
+            eprintln!("unknown benchmark '{other}'; use all, kernel, copies, memory or throughput")
+        }
     }
 }
 
@@ -210,7 +213,7 @@ fn kernel(threads: usize, quick: bool) {
             threads,
         ),
     );
-    let c = s / 2;
+    let c = s;
     let hc = 1 << ((c.trailing_zeros() as usize) / 2);
     row(
         &format!("c64 A[k1,i,k2] B[k2,j,k1] (both permuted) [{c}^3]"),

@@ -4,7 +4,7 @@
 # and slice throughput on a random-circuit plan. Prints figures and ratios;
 # nothing about time is asserted. About 5 minutes on 2 cores (plus the first
 # release build); --quick shrinks every case.
-# Usage: scripts/bench-exec.sh [all|kernel|memory|throughput] [--quick]
+# Usage: scripts/bench-exec.sh [all|kernel|copies|memory|throughput] [--quick]
 set -eu
 cd "$(dirname "$0")/.."
 export CARGO_BUILD_JOBS="${CARGO_BUILD_JOBS:-1}"

@@ -94,12 +94,12 @@ pub fn contract<T: Scalar, K: MatMul>(
         let cost = if ca { av.len() } else { 0 } + if cb { bv.len() } else { 0 };
         (ca, cb, cost)
     };
-    let (ca, cb, cost_a) = copies(&inner_a);
-    let (cb2, cb2b, cost_b) = copies(&inner_b);
-    let (inner, copy_a, copy_b) = if cost_b < cost_a {
-        (inner_b, cb2, cb2b)
+    // The inner order follows a's layout or b's: whichever copies less.
+    let (follow_a, follow_b) = (copies(&inner_a), copies(&inner_b));
+    let (inner, (copy_a, copy_b, _)) = if follow_b.2 < follow_a.2 {
+        (inner_b, follow_b)
     } else {
-        (inner_a, ca, cb)
+        (inner_a, follow_a)
     };
     drop((av, bv));
 

@@ -17,6 +17,7 @@ use crate::network::Dtype;
 /// contraction itself is generic.
 pub trait Scalar:
     ComplexField
+    + super::memory::ZeroBits
     + Copy
     + Default
     + Send
