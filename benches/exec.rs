@@ -153,7 +153,7 @@ fn row(label: &str, reps: usize, mut base: impl FnMut(), mut kern: impl FnMut())
 }
 
 fn kernel(threads: usize, quick: bool) {
-    let (s, reps): (usize, usize) = if quick { (1024, 3) } else { (4096, 4) };
+    let (s, reps): (usize, usize) = if quick { (1024, 3) } else { (4096, 5) };
     let bits = s.trailing_zeros() as usize;
     println!("kernel: pairwise contraction vs a plain faer multiply of the same size ({threads} threads; ratio = plain / kernel, target >= 0.8)");
     // Index ids: 0 i, 1 k, 2 j, 3.. split and batch indices.

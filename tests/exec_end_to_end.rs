@@ -8,6 +8,7 @@ mod exec_support;
 use std::path::Path;
 
 use exec_support::{fibonacci_chain, independent_set_grid, sliceplan, stderr, stdout, write_case};
+use sliceplan::jobs::chunk_range;
 use sliceplan::network::{Dtype, Network};
 use sliceplan::plan::Plan;
 use sliceplan::tree::Tree;
@@ -19,17 +20,18 @@ fn middle_bonds(net: &Network, names: &[&str]) -> Vec<usize> {
 
 fn grid_case(dir: &Path) -> (Network, Plan) {
     let net = independent_set_grid(6);
-    // Four bonds cut by the contraction front: 2^4 = 16 slices.
-    let sliced = middle_bonds(&net, &["y2_2", "x2_3", "y3_1", "x3_4"]);
-    let plan = Plan::for_tree(
-        &net,
-        "grid.toml",
-        &Tree::left_deep(36),
-        &sliced,
-        Dtype::F64,
-        1 << 20,
-    );
-    assert_eq!(plan.slice_count(), Some(16));
+    let tree = Tree::left_deep(36);
+    let peak = |p: &Plan| p.predicted.per_slice_peak_bytes.parse::<u64>().unwrap();
+    let whole = Plan::for_tree(&net, "grid.toml", &tree, &[], Dtype::F64, 0);
+    // Bonds chosen to lower the peak, at least 8 slices; the budget is the
+    // per-slice peak they reach, which the unsliced contraction exceeds.
+    let sliced = exec_support::slice_greedily(&net, &tree, 8);
+    let probe = Plan::for_tree(&net, "grid.toml", &tree, &sliced, Dtype::F64, 0);
+    let budget = peak(&probe);
+    assert!(peak(&whole) > budget, "slicing is needed to fit the budget");
+    let plan = Plan::for_tree(&net, "grid.toml", &tree, &sliced, Dtype::F64, budget);
+    let slices = plan.slice_count().unwrap();
+    assert!((8..=256).contains(&slices), "{slices} slices");
     write_case(dir, "grid", &net, &plan);
     (net, plan)
 }
@@ -42,7 +44,7 @@ fn json(out: &std::process::Output) -> serde_json::Value {
 #[test]
 fn independent_sets_of_the_6x6_grid_in_four_chunks() {
     let dir = tempfile::tempdir().unwrap();
-    grid_case(dir.path());
+    let (_, plan) = grid_case(dir.path());
     for i in 0..4 {
         let o = sliceplan(
             dir.path(),
@@ -76,7 +78,7 @@ fn independent_sets_of_the_6x6_grid_in_four_chunks() {
     let j = json(&o);
     // OEIS A006506: the 6x6 grid graph has 5,598,861 independent sets.
     assert_eq!(j["value"], 5_598_861.0);
-    assert_eq!(j["slices"], 16);
+    assert_eq!(j["slices"].as_u64(), plan.slice_count());
     assert_eq!(j["partials"], 4);
     let npy = sliceplan::npy::read_npy(&dir.path().join("grid.npy")).unwrap();
     assert_eq!(npy.shape, Vec::<u64>::new());
@@ -141,7 +143,8 @@ fn run_all_with_verify_and_a_sliced_open_index() {
 #[test]
 fn gather_refuses_damaged_missing_and_foreign_partials() {
     let dir = tempfile::tempdir().unwrap();
-    let (net, _) = grid_case(dir.path());
+    let (net, plan) = grid_case(dir.path());
+    let total = plan.slice_count().unwrap();
     let o = sliceplan(
         dir.path(),
         &[
@@ -178,8 +181,12 @@ fn gather_refuses_damaged_missing_and_foreign_partials() {
         .unwrap()
         .ends_with("chunk-000002-of-000004.partial"));
     assert!(rejected[0]["reason"].as_str().unwrap().contains("checksum"));
-    // 16 slices in 4 chunks: chunk 1 is slices 4..8, chunk 2 is 8..12 (jobs::chunk_range).
-    assert_eq!(j["missing"], serde_json::json!([{"start": 4, "end": 12}]));
+    // Chunks 1 and 2 of 4 are adjacent ranges (jobs::chunk_range): one gap.
+    let gap = [chunk_range(total, 1, 4).start, chunk_range(total, 2, 4).end];
+    assert_eq!(
+        j["missing"],
+        serde_json::json!([{"start": gap[0], "end": gap[1]}])
+    );
 
     // Re-running completes it: the damaged chunk is redone, the valid ones kept.
     let o = sliceplan(
@@ -204,7 +211,7 @@ fn gather_refuses_damaged_missing_and_foreign_partials() {
         &net,
         "grid.toml",
         &Tree::left_deep(36),
-        &middle_bonds(&net, &["y2_2", "x2_3", "y3_1"]),
+        &plan.sliced_ids(&net).unwrap()[1..],
         Dtype::F64,
         0,
     );
@@ -240,16 +247,17 @@ fn gather_refuses_damaged_missing_and_foreign_partials() {
 #[test]
 fn bad_arguments_exit_2_and_name_the_fix() {
     let dir = tempfile::tempdir().unwrap();
-    grid_case(dir.path());
+    let (_, plan) = grid_case(dir.path());
     let o = sliceplan(
         dir.path(),
         &["run", "grid.plan.toml", "--chunk", "4", "--of", "4"],
     );
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("numbered 0..4"), "{}", stderr(&o));
-    let o = sliceplan(dir.path(), &["run", "grid.plan.toml", "--slices", "10..99"]);
+    let o = sliceplan(dir.path(), &["run", "grid.plan.toml", "--slices", "3..999"]);
     assert_eq!(o.status.code(), Some(2));
-    assert!(stderr(&o).contains("16 slices"), "{}", stderr(&o));
+    let want = format!("{} slices", plan.slice_count().unwrap());
+    assert!(stderr(&o).contains(&want), "{}", stderr(&o));
     let o = sliceplan(dir.path(), &["run", "missing.plan.toml", "--all"]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("missing.plan.toml"), "{}", stderr(&o));

@@ -4,6 +4,7 @@
 //! a counting stand-in for the matrix multiply.
 
 mod common;
+mod exec_support;
 
 use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Arc;
@@ -186,7 +187,7 @@ fn permutes_batches_and_sums_lone_indices() {
 
 #[test]
 fn a_slice_runs_one_multiply_per_merge_and_frees_everything_else() {
-    let net = exec_support_grid();
+    let net = exec_support::independent_set_grid(4);
     let tree = Tree::left_deep(net.num_tensors());
     let order: Vec<usize> = (0..net.num_tensors() - 1).collect();
     let process = Meter::new();
@@ -208,9 +209,3 @@ fn a_slice_runs_one_multiply_per_merge_and_frees_everything_else() {
     // OEIS A006506: the 4x4 grid graph has 1234 independent sets.
     assert_eq!(out.data(), &[1234.0]);
 }
-
-fn exec_support_grid() -> Network {
-    exec_support::independent_set_grid(4)
-}
-
-mod exec_support;

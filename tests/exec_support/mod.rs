@@ -6,8 +6,10 @@ use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-use sliceplan::network::{Fill, Network, NetworkBuilder, Values};
+use sliceplan::cost::{NodeSets, PeakModel};
+use sliceplan::network::{Fill, IndexId, Network, NetworkBuilder, Values};
 use sliceplan::plan::{write_plan, Plan};
+use sliceplan::tree::Tree;
 
 /// Writes `net` as a native network file.
 pub fn write_native(net: &Network, path: &Path) {
@@ -136,6 +138,35 @@ pub fn fibonacci_chain(len: usize) -> Network {
     }
     b.dtype(sliceplan::network::Dtype::F64);
     b.build().unwrap()
+}
+
+/// A slice set for `tree` with at least `min_slices` slices whose per-slice
+/// peak (executor rule) is below the unsliced one: indices are added
+/// greedily, each the one that gives the lowest peak, ties broken by the
+/// lowest total ops. A small stand-in for the slicing search, enough to
+/// force slicing in tests.
+pub fn slice_greedily(net: &Network, tree: &Tree, min_slices: u64) -> Vec<IndexId> {
+    let sets = NodeSets::new(net, tree);
+    let cost = |ids: &[IndexId]| {
+        let s = sets.evaluate_sliced(net, ids, PeakModel::EXECUTOR);
+        (s.per_slice.peak.exact.unwrap(), s.per_slice.total_ops.log2)
+    };
+    let whole = cost(&[]).0;
+    let mut chosen: Vec<IndexId> = Vec::new();
+    let slices = |c: &[IndexId]| c.iter().map(|&e| net.indices[e].dim).product::<u64>();
+    while slices(&chosen) < min_slices || cost(&chosen).0 >= whole {
+        let best = (0..net.num_indices())
+            .filter(|e| !chosen.contains(e) && net.indices[*e].dim > 1)
+            .map(|e| {
+                let mut c = chosen.clone();
+                c.push(e);
+                (cost(&c), e)
+            })
+            .min_by(|a, b| a.0 .0.cmp(&b.0 .0).then(a.0 .1.total_cmp(&b.0 .1)))
+            .expect("some index is left to slice");
+        chosen.push(best.1);
+    }
+    chosen
 }
 
 /// Writes `net` as `dir/<stem>.toml` and `plan` as `dir/<stem>.plan.toml`.
