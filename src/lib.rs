@@ -11,6 +11,7 @@
 pub mod cli;
 pub mod cost;
 pub mod error;
+pub mod exec;
 pub mod formats;
 pub mod generate;
 pub mod io;

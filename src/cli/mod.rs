@@ -7,6 +7,7 @@
 
 mod budget_args;
 mod fit;
+mod gather;
 mod generate;
 mod import;
 mod inspect;
@@ -14,6 +15,7 @@ mod jobs;
 mod net_args;
 mod plan;
 mod report;
+mod run;
 mod search_args;
 mod tree_source;
 
@@ -71,6 +73,12 @@ pub enum Command {
     /// Write a plan's chunks as a Slurm job array; --status lists what to resubmit.
     #[command(after_help = jobs::EXAMPLES)]
     Jobs(jobs::JobsArgs),
+    /// Contract slices of a plan on this machine and write their partials.
+    #[command(after_help = run::EXAMPLES)]
+    Run(run::RunArgs),
+    /// Check the partials of a plan, sum them and print the result.
+    #[command(after_help = gather::EXAMPLES)]
+    Gather(gather::GatherArgs),
     /// Read a circuit, formula, graph or network and write it as a native
     /// network file with its values.
     #[command(after_help = import::EXAMPLES)]
@@ -89,6 +97,8 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Fit(args) => fit::run(args),
         Command::Report(args) => report::run(args),
         Command::Jobs(args) => jobs::run(args),
+        Command::Run(args) => run::run(args),
+        Command::Gather(args) => gather::run(args),
         Command::Import(args) => import::run(args),
         Command::Generate(args) => generate::run(args),
     }

@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 use serde::Serialize;
 
 use super::array::array_spec;
-use super::manifest::{read_manifest, Manifest};
+use super::manifest::{read_manifest, ChunkEntry, Manifest};
 use super::quote::{pattern_dir, script_path};
 use super::scripts::{sbatch_script, ScriptPaths};
 use super::write::write_script;
@@ -73,11 +73,18 @@ pub struct JobStatus {
     pub missing_detail: Vec<MissingChunk>,
 }
 
-/// True when a partial counts as present (exists, is a file, not empty).
-pub fn partial_present(path: &Path) -> bool {
-    std::fs::metadata(path)
-        .map(|m| m.is_file() && m.len() > 0)
-        .unwrap_or(false)
+/// True when a chunk's partial is done: it reads back with a good
+/// checksum, carries the manifest's plan fingerprint and covers exactly the
+/// chunk's slices. Anything else (absent, damaged, another plan's) is
+/// missing and goes into the resubmission.
+pub fn partial_done(path: &Path, fingerprint: &str, chunk: &ChunkEntry) -> bool {
+    match crate::exec::partial::read_partial(path) {
+        Ok(p) => {
+            p.header.plan_fingerprint == fingerprint
+                && p.header.slices() == (chunk.first_slice..chunk.end_slice)
+        }
+        Err(_) => false,
+    }
 }
 
 /// Reads the state of the job directory `dir`. The plan must still be the
@@ -88,7 +95,7 @@ pub fn job_status(dir: &Path) -> Result<JobStatus> {
     let logs = dir.join(&m.logs_dir);
     let mut missing_detail = Vec::new();
     for c in &m.chunk_list {
-        if partial_present(&m.partial_path(dir, c)) {
+        if partial_done(&m.partial_path(dir, c), &m.plan_fingerprint, c) {
             continue;
         }
         let exit = std::fs::read_to_string(logs.join(format!("chunk-{}.exit", c.id)))

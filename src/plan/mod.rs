@@ -8,6 +8,7 @@
 //! tree, slice set, dtype) is what partial results carry.
 
 pub mod advise;
+mod build;
 
 use std::path::{Path, PathBuf};
 

@@ -1,0 +1,63 @@
+//! `sliceplan gather`: check and sum the partials of a plan.
+
+use std::path::PathBuf;
+
+use clap::Args;
+
+use super::run::load_plan;
+use super::{to_json, Outcome};
+use crate::error::{Result, EXIT_CANNOT};
+use crate::exec::report::{IncompleteReport, ResultReport};
+use crate::exec::{gather, GatherOutcome};
+
+pub(super) const EXAMPLES: &str = "Examples:
+  sliceplan gather grid.plan.toml grid.partials
+  sliceplan gather grid.plan.toml parts/ -o grid.npy --json";
+
+/// Arguments of `gather`.
+#[derive(Debug, Args)]
+pub struct GatherArgs {
+    /// Plan file the partials were run from.
+    #[arg(value_name = "PLAN")]
+    plan: PathBuf,
+
+    /// Directory holding the partials.
+    #[arg(value_name = "DIR")]
+    dir: PathBuf,
+
+    /// Write the result as a .npy file.
+    #[arg(short = 'o', long = "output", value_name = "RESULT.npy")]
+    output: Option<PathBuf>,
+
+    /// Print one JSON object on stdout instead of text.
+    #[arg(long)]
+    json: bool,
+}
+
+pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
+    let (plan, net) = load_plan(&args.plan)?;
+    match gather(&plan, &net, &args.dir)? {
+        GatherOutcome::Complete(g) => {
+            if let Some(path) = &args.output {
+                crate::exec::npy_out::write_npy(path, g.dtype, &g.shape, &g.lanes)?;
+            }
+            let r = ResultReport::new(&g, args.output.clone());
+            Ok(Outcome::ok(if args.json {
+                to_json(&r)
+            } else {
+                r.to_text()
+            }))
+        }
+        GatherOutcome::Incomplete(i) => {
+            let r = IncompleteReport::new(
+                &i,
+                &args.plan.display().to_string(),
+                &args.dir.display().to_string(),
+            );
+            Ok(Outcome {
+                stdout: if args.json { to_json(&r) } else { r.to_text() },
+                code: EXIT_CANNOT,
+            })
+        }
+    }
+}
