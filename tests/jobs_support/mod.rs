@@ -141,8 +141,9 @@ pub fn write_grid_plan(dir: &Path, n: usize, k: usize, seconds_per_slice: Option
 /// A stand-in for the `sliceplan` binary in `dir`: for `run ... --chunk I
 /// --of N ... --out D` it records its arguments, one per line, in
 /// `dir/calls/chunk-I.args` and its working directory in
-/// `dir/calls/chunk-I.cwd`, and writes `D/chunk-I-of-N.partial`; when the
-/// file `dir/fail-I` exists it prints an error and exits 3 instead.
+/// `dir/calls/chunk-I.cwd`, then hands over to the real binary, which
+/// writes `D/chunk-I-of-N.partial`; when the file `dir/fail-I` exists it
+/// prints an error and exits 3 instead.
 pub fn stand_in_binary(dir: &Path) -> PathBuf {
     std::fs::create_dir_all(dir.join("calls")).unwrap();
     let path = dir.join("stand-in-sliceplan");
@@ -166,10 +167,10 @@ if [[ -e $here/fail-$chunk ]]; then
     echo "stand-in: chunk $chunk fails on purpose" >&2
     exit 3
 fi
-mkdir -p "$out"
-printf 'stand-in partial %s of %s\n' "$chunk" "$of" >"$out/chunk-$chunk-of-$of.partial"
+exec '{real}' "${{args[@]}}"
 "#,
-        here = dir.display()
+        here = dir.display(),
+        real = env!("CARGO_BIN_EXE_sliceplan"),
     );
     std::fs::write(&path, script).unwrap();
     use std::os::unix::fs::PermissionsExt;
