@@ -6,7 +6,6 @@
 # binary (e.g. a test name).
 set -euo pipefail
 cd "$(dirname "$0")/.."
-export CARGO_BUILD_JOBS=${CARGO_BUILD_JOBS:-1}
 if ! scripts/local-slurm.sh status >/dev/null 2>&1; then
     trap 'scripts/local-slurm.sh stop' EXIT
     scripts/local-slurm.sh start
