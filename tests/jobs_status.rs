@@ -87,6 +87,21 @@ fn status_names_each_missing_chunk_and_resubmission_completes_the_job() {
     let resubmit = dir.join("resubmit.sbatch");
     let text = std::fs::read_to_string(&resubmit).unwrap();
     assert_eq!(option(&options(&text), "array"), Some("2,5-6"));
+    // gather on the job's partials says the same and rewrites the script.
+    std::fs::remove_file(&resubmit).unwrap();
+    let (code, stdout, _) = sliceplan(&[
+        os("gather"),
+        plan.as_os_str(),
+        dir.join("partials").as_os_str(),
+    ]);
+    assert_eq!(code, Some(1), "{stdout}");
+    assert!(
+        stdout.contains("missing chunks (of 8): 2, 5, 6"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("resubmission written: sbatch"), "{stdout}");
+    let text = std::fs::read_to_string(&resubmit).unwrap();
+    assert_eq!(option(&options(&text), "array"), Some("2,5-6"));
 
     // Run it under the stand-in scheduler with the failure fixed: done.
     std::fs::remove_file(bin_dir.join("fail-2")).unwrap();

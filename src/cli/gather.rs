@@ -34,6 +34,20 @@ pub struct GatherArgs {
     json: bool,
 }
 
+/// When `dir` is the `partials` folder of a job directory written by
+/// `sliceplan jobs`, refreshes that directory's `resubmit.sbatch` with
+/// exactly the missing chunks and returns its path.
+fn resubmission(dir: &std::path::Path) -> Result<Option<PathBuf>> {
+    let Some(job_dir) = dir.parent() else {
+        return Ok(None);
+    };
+    if !job_dir.join(crate::jobs::MANIFEST_FILE).is_file() {
+        return Ok(None);
+    }
+    let status = crate::jobs::job_status(job_dir)?;
+    crate::jobs::refresh_resubmit(job_dir, &status)
+}
+
 pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
     let (plan, net) = load_plan(&args.plan)?;
     match gather(&plan, &net, &args.dir)? {
@@ -49,11 +63,12 @@ pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
             }))
         }
         GatherOutcome::Incomplete(i) => {
-            let r = IncompleteReport::new(
+            let mut r = IncompleteReport::new(
                 &i,
                 &args.plan.display().to_string(),
                 &args.dir.display().to_string(),
             );
+            r.resubmit_script = resubmission(&args.dir)?;
             Ok(Outcome {
                 stdout: if args.json { to_json(&r) } else { r.to_text() },
                 code: EXIT_CANNOT,

@@ -119,6 +119,10 @@ pub struct IncompleteReport {
     pub details: Incomplete,
     /// The command that re-runs the missing chunks, when they are known.
     pub resubmit: Vec<String>,
+    /// The Slurm resubmission script written for the missing chunks, when
+    /// the partials belong to a job directory of `sliceplan jobs`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub resubmit_script: Option<PathBuf>,
 }
 
 impl IncompleteReport {
@@ -145,6 +149,7 @@ impl IncompleteReport {
             complete: false,
             details: details.clone(),
             resubmit,
+            resubmit_script: None,
         }
     }
 
@@ -177,6 +182,9 @@ impl IncompleteReport {
         }
         for r in &d.rejected {
             let _ = writeln!(s, "rejected {}: {}", r.file.display(), r.reason);
+        }
+        if let Some(script) = &self.resubmit_script {
+            let _ = writeln!(s, "resubmission written: sbatch {}", script.display());
         }
         if !self.resubmit.is_empty() {
             s.push_str("to complete it, run:\n");
