@@ -333,7 +333,7 @@ impl FitReport {
                     r.overhead.map(|o| format!("{o:.3}x")).unwrap_or_default(),
                     r.estimate
                         .as_ref()
-                        .map(|e| format!("{:.3}", e.node_hours))
+                        .map(|e| hours(e.node_hours))
                         .unwrap_or_default(),
                 ]);
             }
@@ -437,14 +437,23 @@ pub fn frontier_table(rows: &[FrontierRow], budget: u64) -> String {
 
 fn estimate_line(e: &Estimate) -> String {
     format!(
-        "estimate  {}: {} per slice; {} wall on {} node{}; {:.3} node-hours (model estimate)\n",
+        "estimate  {}: {} per slice; {} wall on {} node{}; {} node-hours (model estimate)\n",
         e.machine,
         duration(e.seconds_per_slice),
         duration(e.wall_seconds),
         e.nodes_used,
         if e.nodes_used == 1 { "" } else { "s" },
-        e.node_hours
+        hours(e.node_hours)
     )
+}
+
+/// Node-hours with three decimals, or in scientific notation when tiny.
+fn hours(h: f64) -> String {
+    if h != 0.0 && h < 0.001 {
+        format!("{h:.2e}")
+    } else {
+        format!("{h:.3}")
+    }
 }
 
 /// Seconds in a readable unit.
