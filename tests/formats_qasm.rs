@@ -128,7 +128,7 @@ fn corpus_amplitudes_of_small_circuits() {
 }
 
 #[test]
-#[ignore = "minutes in a debug build; the executor will make it fast"]
+#[ignore = "minutes in a debug build: run scripts/long-tests.sh (release)"]
 fn corpus_amplitudes_of_large_circuits() {
     if !formats_util::corpus_present("corpus_amplitudes_of_large_circuits") {
         return;
