@@ -3,7 +3,7 @@
 
 use serde::Serialize;
 
-use super::{Plan, Predicted, SlicedIndex, PLAN_FORMAT, PLAN_VERSION};
+use super::Plan;
 use crate::cost::machine::{estimate, Estimate, Machine};
 use crate::cost::{Dims, NodeSets};
 use crate::network::{Dtype, Network};
@@ -162,46 +162,28 @@ pub fn make_plan(
     seed: u64,
 ) -> Option<Plan> {
     let (point, origin) = advice.result.chosen.as_ref()?;
-    let tree = &advice.result.tree;
-    let sets = NodeSets::new(net, tree);
-    let per_slice = sets.evaluate_sliced(net, &point.sliced, crate::cost::PeakModel::EXECUTOR);
-    Some(Plan {
-        format: PLAN_FORMAT.into(),
-        version: PLAN_VERSION,
-        tool_version: env!("CARGO_PKG_VERSION").into(),
-        network_fingerprint: net.fingerprint(),
-        network_path: network_path.to_string(),
-        tensors: net.num_tensors(),
-        merges: tree.merges().to_vec(),
-        order: per_slice.per_slice.order.clone(),
-        sliced: point
-            .sliced
-            .iter()
-            .map(|&e| SlicedIndex {
-                name: net.indices[e].name.clone(),
-                dim: net.indices[e].dim,
-            })
-            .collect(),
+    let mut plan = Plan::for_tree(
+        net,
+        network_path,
+        &advice.result.tree,
+        &point.sliced,
         dtype,
-        budget_bytes: advice.target.budget_bytes,
-        slices_at_once: advice.target.slices_at_once,
-        seed,
-        predicted: Predicted {
-            per_slice_total_ops_log2: point.per_slice_total_ops.log2,
-            per_slice_width: point.per_slice_width,
-            per_slice_peak_bytes: format!("{:.0}", point.need.per_slice_peak_bytes),
-            total_ops_log2: point.total_ops.log2,
-            overhead: (point.total_ops.log2 - advice.result.unsliced.total_ops.log2).exp2(),
-            baseline_total_ops_log2: advice.result.unsliced.total_ops.log2,
-            found_by: serde_json::to_value(origin)
-                .ok()
-                .and_then(|v| v.as_str().map(String::from))
-                .unwrap_or_default(),
-            tree_source: tree_source.to_string(),
-        },
-        frontier: advice.result.frontier.clone(),
-        cover: advice.result.cover.clone(),
-        estimate: advice.estimate.clone(),
-        lower_bound_width: None,
-    })
+        advice.target.budget_bytes,
+    );
+    plan.slices_at_once = advice.target.slices_at_once;
+    plan.seed = seed;
+    // The overhead is against the starting tree's unsliced ops (the search's
+    // best), which co-optimisation may have replaced.
+    let baseline = advice.result.unsliced.total_ops.log2;
+    plan.predicted.overhead = (point.total_ops.log2 - baseline).exp2();
+    plan.predicted.baseline_total_ops_log2 = baseline;
+    plan.predicted.found_by = serde_json::to_value(origin)
+        .ok()
+        .and_then(|v| v.as_str().map(String::from))
+        .unwrap_or_default();
+    plan.predicted.tree_source = tree_source.to_string();
+    plan.frontier = advice.result.frontier.clone();
+    plan.cover = advice.result.cover.clone();
+    plan.estimate = advice.estimate.clone();
+    Some(plan)
 }
