@@ -74,6 +74,11 @@ pub(super) fn slice_and_report(
 ) -> (FitReport, Vec<Advice>) {
     let base = SliceOptions::new(targets[0].budget_bytes, dtype);
     let mut refit = found.refit(REPLANS * targets.len() as u32);
+    // The library reports no progress for slicing; a spinner shows it is
+    // working (drawn only when stderr is a terminal).
+    let spinner = indicatif::ProgressBar::new_spinner();
+    spinner.set_message(format!("choosing slices for {} target(s)", targets.len()));
+    spinner.enable_steady_tick(std::time::Duration::from_millis(120));
     let advice = advise(
         net,
         &found.tree,
@@ -82,6 +87,7 @@ pub(super) fn slice_and_report(
         refit.as_deref_mut(),
         REPLANS as usize,
     );
+    spinner.finish_and_clear();
     let report = FitReport::new(
         net,
         found.report(net, dtype),
