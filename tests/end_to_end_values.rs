@@ -113,19 +113,19 @@ fn real_value(json: &Value) -> f64 {
     }
 }
 
+/// The value of a counting problem on the rows x cols grid graph, through
+/// the sliced pipeline.
+fn grid_count(rows: usize, cols: usize, problem: GraphProblem) -> f64 {
+    let name = format!("grid {rows}x{cols}");
+    let net = graph_network(&grid_graph(rows, cols), &problem, "grid", &name).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    real_value(&sliced_value(&net, dir.path()).0)
+}
+
 #[test]
 fn independent_sets_of_the_6x6_grid() {
     // OEIS A006506 (independent vertex sets in the n x n grid graph), n = 6.
-    let net = graph_network(
-        &grid_graph(6, 6),
-        &GraphProblem::IndependentSets,
-        "grid",
-        "grid 6x6",
-    )
-    .unwrap();
-    let dir = tempfile::tempdir().unwrap();
-    let (json, _) = sliced_value(&net, dir.path());
-    assert_eq!(real_value(&json), 5_598_861.0);
+    assert_eq!(grid_count(6, 6, GraphProblem::IndependentSets), 5_598_861.0);
 }
 
 #[test]
@@ -133,16 +133,10 @@ fn domino_tilings_of_the_8x8_board() {
     // OEIS A004003 (domino tilings of the 2n x 2n board), n = 4: the
     // perfect matchings of the 8 x 8 grid graph (Kasteleyn 1961; Temperley
     // and Fisher 1961).
-    let net = graph_network(
-        &grid_graph(8, 8),
-        &GraphProblem::PerfectMatchings,
-        "grid",
-        "grid 8x8",
-    )
-    .unwrap();
-    let dir = tempfile::tempdir().unwrap();
-    let (json, _) = sliced_value(&net, dir.path());
-    assert_eq!(real_value(&json), 12_988_816.0);
+    assert_eq!(
+        grid_count(8, 8, GraphProblem::PerfectMatchings),
+        12_988_816.0
+    );
 }
 
 #[test]
