@@ -170,16 +170,61 @@ fn a_moved_network_is_named_with_the_way_out() {
 }
 
 #[test]
-fn a_directory_holding_another_plans_partials_is_not_reused() {
+fn another_plans_job_directory_is_replaced_only_with_force() {
     let tmp = tempfile::tempdir().unwrap();
     let plan = plan16(tmp.path(), true);
     let out = tmp.path().join("job");
     assert_eq!(jobs(&plan, &out, &[]).0, Some(0));
-    std::fs::write(out.join("partials/chunk-0-of-16.partial"), "x").unwrap();
     let other = write_grid_plan(&tmp.path().join("other"), 6, 3, Some(1.0));
+    // Without partials: still another plan's jobs.
     let (code, _, err) = jobs(&other, &out, &[]);
     assert_eq!(code, Some(1));
-    assert!(err.contains("already holds partials of plan"), "{err}");
+    assert!(
+        err.contains("holds the jobs of plan") && err.contains("--force"),
+        "{err}"
+    );
+    std::fs::write(out.join("partials/chunk-0-of-16.partial"), "x").unwrap();
+    let (code, _, err) = jobs(&other, &out, &[]);
+    assert_eq!(code, Some(1));
+    assert!(err.contains("and 1 of its partials"), "{err}");
     // The same plan again is fine (e.g. new resources).
     assert_eq!(jobs(&plan, &out, &["--chunks", "16"]).0, Some(0));
+    // --force replaces the jobs and moves the partial aside, byte for byte.
+    let old_fp = std::fs::read_to_string(out.join("manifest.toml")).unwrap();
+    let (code, stdout, err) = jobs(&other, &out, &["--force"]);
+    assert_eq!(code, Some(0), "{err}");
+    assert!(stdout.contains("moved 1 partial(s)"), "{stdout}");
+    assert_ne!(
+        std::fs::read_to_string(out.join("manifest.toml")).unwrap(),
+        old_fp
+    );
+    let aside: Vec<_> = std::fs::read_dir(&out)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.starts_with("partials.replaced-"))
+        .collect();
+    assert_eq!(aside.len(), 1, "{aside:?}");
+    let moved = out.join(&aside[0]).join("chunk-0-of-16.partial");
+    assert_eq!(std::fs::read_to_string(moved).unwrap(), "x");
+    assert!(!out.join("partials/chunk-0-of-16.partial").exists());
+}
+
+#[test]
+fn a_manifest_that_is_not_ours_is_not_overwritten() {
+    let tmp = tempfile::tempdir().unwrap();
+    let plan = plan16(tmp.path(), true);
+    let out = tmp.path().join("mine");
+    std::fs::create_dir_all(&out).unwrap();
+    std::fs::write(out.join("manifest.toml"), "owner = \"someone else\"\n").unwrap();
+    let (code, _, err) = jobs(&plan, &out, &[]);
+    assert_eq!(code, Some(1));
+    assert!(
+        err.contains("is not a job manifest") && err.contains("--force"),
+        "{err}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(out.join("manifest.toml")).unwrap(),
+        "owner = \"someone else\"\n"
+    );
+    assert_eq!(jobs(&plan, &out, &["--force"]).0, Some(0));
 }

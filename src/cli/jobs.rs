@@ -88,6 +88,11 @@ pub struct JobsArgs {
     ])]
     status: Option<PathBuf>,
 
+    /// Replace the jobs of another plan in --out (its partials are moved
+    /// aside to partials.replaced-<fingerprint>/, never deleted).
+    #[arg(long, conflicts_with = "status")]
+    force: bool,
+
     /// Submit the written script with sbatch (submit.sbatch, or resubmit.sbatch with --status).
     #[arg(long)]
     submit: bool,
@@ -122,6 +127,7 @@ impl JobsArgs {
             mem: MemChoice::parse(&self.mem)?,
             cpus_per_task: self.cpus_per_task,
             binary,
+            force: self.force,
         };
         opts.check()?;
         Ok(opts)

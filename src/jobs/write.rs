@@ -55,6 +55,8 @@ pub struct JobOptions {
     pub cpus_per_task: Option<u64>,
     /// The `sliceplan` binary the tasks run.
     pub binary: PathBuf,
+    /// Overwrite a directory holding another plan's jobs.
+    pub force: bool,
 }
 
 impl JobOptions {
@@ -159,7 +161,7 @@ pub fn write_jobs(
         binary,
     };
     let fingerprint = plan.fingerprint();
-    refuse_other_plans_partials(&dir, &fingerprint)?;
+    guard_existing(&dir, &fingerprint, opts.force, &mut notes)?;
     if chunks - 1 > SLURM_DEFAULT_MAX_ARRAY_INDEX {
         notes.push(format!(
             "array ids run to {}; Slurm's default MaxArraySize (1001) allows ids up to {SLURM_DEFAULT_MAX_ARRAY_INDEX}, so check `scontrol show config | grep MaxArraySize` or use fewer chunks",
@@ -249,30 +251,75 @@ pub(crate) fn write_script(path: &Path, text: &str) -> Result<PathBuf> {
     Ok(path.to_path_buf())
 }
 
-/// A job directory that already holds partials of another plan is not
-/// reused: mixing them would only be caught at gather time.
-fn refuse_other_plans_partials(dir: &Path, fingerprint: &str) -> Result<()> {
-    let Ok(old) = read_manifest(dir) else {
+/// A directory that already holds another plan's jobs, or a
+/// `manifest.toml` that is not ours, is not overwritten unless `force`.
+/// With `force`, another plan's partials are moved aside to
+/// `partials.replaced-<fingerprint>/` (never deleted), so the two plans'
+/// results cannot mix and nothing computed is lost.
+fn guard_existing(
+    dir: &Path,
+    fingerprint: &str,
+    force: bool,
+    notes: &mut Vec<String>,
+) -> Result<()> {
+    let manifest_path = dir.join(super::MANIFEST_FILE);
+    if !manifest_path.exists() {
         return Ok(());
+    }
+    let old = match read_manifest(dir) {
+        Ok(old) => old,
+        Err(e) if force => {
+            notes.push(format!("--force: replaced {} ({e})", manifest_path.display()));
+            return Ok(());
+        }
+        Err(e) => {
+            return Err(Error::Cannot(format!(
+                "{} exists and is not a job manifest this build can read ({e}); choose another --out, or give --force to overwrite it",
+                manifest_path.display()
+            )))
+        }
     };
     if old.plan_fingerprint == fingerprint {
         return Ok(());
     }
     let partials = dir.join(&old.partials_dir);
-    let has_partials = std::fs::read_dir(&partials)
+    let old_partials: Vec<PathBuf> = std::fs::read_dir(&partials)
         .map(|entries| {
             entries
                 .filter_map(|e| e.ok())
-                .any(|e| e.file_name().to_string_lossy().ends_with(".partial"))
+                .map(|e| e.path())
+                .filter(|p| p.extension().is_some_and(|x| x == "partial"))
+                .collect()
         })
-        .unwrap_or(false);
-    if has_partials {
+        .unwrap_or_default();
+    if !force {
+        let held = if old_partials.is_empty() {
+            String::new()
+        } else {
+            format!(" and {} of its partials", old_partials.len())
+        };
         return Err(Error::Cannot(format!(
-            "{} already holds partials of plan {} (this plan is {fingerprint}); choose another --out or remove {}",
+            "{} holds the jobs of plan {}{held} (this plan is {fingerprint}); choose another --out, or give --force to replace them (partials are moved aside, not deleted)",
             dir.display(),
             old.plan_fingerprint,
-            partials.display()
         )));
+    }
+    if !old_partials.is_empty() {
+        let aside = dir.join(format!(
+            "{}.replaced-{}",
+            old.partials_dir, old.plan_fingerprint
+        ));
+        std::fs::create_dir_all(&aside).map_err(|e| Error::write(&aside, e))?;
+        for p in &old_partials {
+            let to = aside.join(p.file_name().expect("read_dir entries have names"));
+            std::fs::rename(p, &to).map_err(|e| Error::write(&to, e))?;
+        }
+        notes.push(format!(
+            "--force: moved {} partial(s) of plan {} to {}",
+            old_partials.len(),
+            old.plan_fingerprint,
+            aside.display()
+        ));
     }
     Ok(())
 }
