@@ -17,8 +17,10 @@ fn sliceplan(args: &[&str]) -> (Option<i32>, String, String) {
 
 #[test]
 fn output_alone_over_the_budget_cannot_fit() {
-    // Open output a,c of 1024 x 1024 c64 elements = 8 MiB (closed form),
-    // budget 4 MiB: exit 1 and the reason named.
+    // Closed forms: inputs 2 x 1024^2 c64 elements x 8 B = 16 MiB; the open
+    // output a,c is accumulated in two f64 lanes per complex element, each
+    // with a compensation f64: 1024^2 x 2 x 16 B = 32 MiB. Budget 4 MiB:
+    // exit 1 and the reason named.
     let (code, out, _) = sliceplan(&[
         "fit",
         "--einsum",
@@ -31,7 +33,7 @@ fn output_alone_over_the_budget_cannot_fit() {
     assert_eq!(code, Some(1));
     assert!(
         out.contains(
-            "CANNOT FIT: the inputs (16.00 MiB) and the output (8.00 MiB) alone need 24.00 MiB"
+            "CANNOT FIT: the inputs (16.00 MiB) and the output accumulator (32.00 MiB) alone need 48.00 MiB"
         ),
         "{out}"
     );

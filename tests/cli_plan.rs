@@ -72,7 +72,7 @@ fn plan_then_report_and_steps_reproduce_the_ghz_state() {
             "plan",
             "ghz.toml",
             "--budget",
-            "900",
+            "1200",
             "--trials",
             "8",
             "--seed",
@@ -100,7 +100,7 @@ fn plan_then_report_and_steps_reproduce_the_ghz_state() {
     assert_eq!(code, Some(0));
     let v: serde_json::Value = serde_json::from_str(&json).unwrap();
     assert_eq!(v["fits"], true);
-    assert_eq!(v["budget_bytes"], 900);
+    assert_eq!(v["budget_bytes"], 1200);
     assert!(std::fs::read_to_string(dir.path().join("f.csv"))
         .unwrap()
         .starts_with("slices_at_most,"));

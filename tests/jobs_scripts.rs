@@ -142,9 +142,10 @@ fn memory_is_never_below_the_plans_need() {
         assert!(mem >= peak * at_once, "{mem} < {peak} x {at_once}");
         let m = sliceplan::jobs::read_manifest(&out).unwrap();
         assert!(mem >= m.task.mem.need_bytes);
-        // need = 5,120 B inputs + 8 B output + at_once x peak (closed form,
-        // see jobs_snapshots.rs for the input count).
-        assert_eq!(m.task.mem.need_bytes, 5120 + 8 + at_once * peak);
+        // need = 5,120 B inputs + 16 B output accumulator (one real f64
+        // lane and its compensation) + at_once x peak (closed form, see
+        // jobs_snapshots.rs for the input count).
+        assert_eq!(m.task.mem.need_bytes, 5120 + 16 + at_once * peak);
         // Default CPUs per task: one per slice at once.
         assert_eq!(
             option(&options(&text), "cpus-per-task"),

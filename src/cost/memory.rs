@@ -1,7 +1,7 @@
 //! What one process needs in memory to run slices of a plan.
 //!
 //! The executor keeps every full input tensor once (shared by all slices it
-//! runs), an accumulator the size of the full output, and for each slice
+//! runs), an accumulator for the full output (two f64 per real lane), and for each slice
 //! running at once that slice's peak under [`PeakModel::EXECUTOR`] (sliced
 //! inputs copied in at first use, permuted operand copies, the result, and
 //! the final permute of the root). The plan's budget must cover the sum.
@@ -47,15 +47,23 @@ pub fn inputs_bytes(net: &Network, dtype: Dtype) -> f64 {
     elements * dtype.bytes() as f64
 }
 
-/// Bytes of the full output.
+/// Bytes of the output accumulator. The executor sums slices in f64 lanes
+/// (one per real element, two per complex one) with a compensation lane
+/// beside each (Neumaier summation), so every lane takes 16 bytes whatever
+/// the element type: twice a c128 output, four times a c64 one.
 pub fn output_bytes(net: &Network, dtype: Dtype) -> f64 {
     let log2: f64 = net
         .open
         .iter()
         .map(|&e| (net.indices[e].dim as f64).log2())
         .sum();
-    log2.exp2() * dtype.bytes() as f64
+    let lanes = if dtype.is_complex() { 2.0 } else { 1.0 };
+    log2.exp2() * lanes * ACCUMULATOR_BYTES_PER_LANE
 }
+
+/// Bytes per f64 lane of the output accumulator: the sum and its
+/// compensation.
+pub const ACCUMULATOR_BYTES_PER_LANE: f64 = 16.0;
 
 /// The per-slice peak in elements under the executor's model.
 pub fn per_slice_peak(sets: &NodeSets, net: &Network, sliced: &[IndexId]) -> Count {

@@ -373,7 +373,7 @@ fn verdict(head: &Advice, fits_without: bool, budget: u64) -> String {
             let fixed = r.unsliced.need.fixed_bytes();
             let why = if fixed > budget as f64 {
                 format!(
-                    "the inputs ({}) and the output ({}) alone need {}, more than the {} budget; slicing cannot shrink them",
+                    "the inputs ({}) and the output accumulator ({}) alone need {}, more than the {} budget; slicing cannot shrink them",
                     bytes_human(r.unsliced.need.inputs_bytes),
                     bytes_human(r.unsliced.need.output_bytes),
                     bytes_human(fixed),
