@@ -14,6 +14,7 @@ pub mod error;
 pub mod exec;
 pub mod formats;
 pub mod generate;
+pub mod host;
 pub mod io;
 pub mod jobs;
 pub mod network;

@@ -12,6 +12,7 @@ use super::{to_json, Outcome};
 use crate::error::{Error, Result, EXIT_CANNOT};
 use crate::exec::partial::ChunkId;
 use crate::exec::report::{run_text, verify_text, IncompleteReport, ResultReport};
+use crate::exec::runner::{predicted_process_bytes, slices_at_once};
 use crate::exec::verify::{compare, contract_whole, Verification};
 use crate::exec::{
     chunk_jobs, gather, run_plan, GatherOutcome, Progress, RunOptions, RunReport, Selection,
@@ -19,6 +20,7 @@ use crate::exec::{
 use crate::formats::{self, LoadOptions};
 use crate::network::Network;
 use crate::plan::{read_plan, Plan};
+use crate::report::bytes_human;
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan run grid.plan.toml --all
@@ -64,7 +66,8 @@ pub struct RunArgs {
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
 
-    /// Re-run chunks even when their valid partial exists.
+    /// Re-run chunks even when their valid partial exists, and run even when
+    /// the predicted memory exceeds what this machine has available.
     #[arg(long)]
     force: bool,
 
@@ -152,6 +155,30 @@ pub(super) fn load_plan(path: &Path) -> Result<(Plan, Network)> {
     Ok((plan, net))
 }
 
+/// Refuses a run this machine cannot hold: the process's predicted need
+/// (inputs, output accumulator, slices at once x per-slice peak) against
+/// the memory available now.
+fn check_memory(path: &Path, plan: &Plan, net: &Network, threads: usize) -> Result<()> {
+    let Some(available) = crate::host::available_memory() else {
+        return Ok(());
+    };
+    let need = predicted_process_bytes(plan, net, threads);
+    if need.is_some_and(|n| n <= available.bytes) {
+        return Ok(());
+    }
+    let need_text = need.map_or_else(
+        || "more than 2^64 bytes".to_string(),
+        |n| bytes_human(n as f64),
+    );
+    Err(Error::Cannot(format!(
+        "{}: a process running this plan is predicted to need {need_text} ({} slice(s) at once), but this machine has {} available ({}); run it where there is more memory, use fewer --threads, plan again with a smaller --budget, or give --force to run anyway",
+        path.display(),
+        slices_at_once(plan, threads),
+        bytes_human(available.bytes as f64),
+        available.source
+    )))
+}
+
 /// The default partials directory: `x.plan.toml` → `x.partials` beside it.
 fn default_dir(plan: &Path) -> PathBuf {
     let name = plan.file_name().and_then(|n| n.to_str()).unwrap_or("plan");
@@ -177,6 +204,9 @@ pub(super) fn run(args: RunArgs) -> Result<Outcome> {
     let total = plan.slice_count().ok_or_else(|| {
         Error::Cannot("the plan has more than 2^64 slices; no machine can run them".into())
     })?;
+    if !args.force {
+        check_memory(&args.plan, &plan, &net, threads)?;
+    }
     let selection = match which {
         Which::Chunk(c) => Selection::Chunk(c),
         Which::Slices(r) => Selection::Slices(r),

@@ -143,6 +143,31 @@ pub fn predicted_slice_peak_bytes(
     u64::try_from(peak.checked_mul(dtype.bytes() as u128)?).ok()
 }
 
+/// Slices a run with `threads` threads keeps in memory at once.
+pub fn slices_at_once(plan: &Plan, threads: usize) -> usize {
+    plan.slices_at_once.max(1).min(threads.max(1) as u64) as usize
+}
+
+/// Bytes a process running `plan` with `threads` threads is predicted to
+/// hold at most: the full inputs once, the output accumulator, and the
+/// per-slice peak (for the plan's own order) for each slice running at
+/// once. `None` beyond 2^64.
+pub fn predicted_process_bytes(plan: &Plan, net: &Network, threads: usize) -> Option<u64> {
+    let tree = plan.tree().ok()?;
+    let sliced = plan.sliced_ids(net).ok()?;
+    let per_slice = predicted_slice_peak_bytes(net, &tree, &plan.order, &sliced, plan.dtype)?;
+    let fixed = crate::cost::memory::inputs_bytes(net, plan.dtype)
+        + crate::cost::memory::output_bytes(net, plan.dtype);
+    let fixed = if fixed < u64::MAX as f64 {
+        fixed.ceil() as u64
+    } else {
+        return None;
+    };
+    per_slice
+        .checked_mul(slices_at_once(plan, threads) as u64)?
+        .checked_add(fixed)
+}
+
 /// Runs `jobs` of `plan` on `net` with faer's multiply.
 pub fn run_plan(
     plan: &Plan,
@@ -355,7 +380,7 @@ fn run_typed<T: Scalar, K: MatMul>(
         limit,
     };
     let threads = options.threads.max(1);
-    let at_once = (plan.slices_at_once.max(1).min(threads as u64)) as usize;
+    let at_once = slices_at_once(plan, threads);
     let per_slice_threads = (threads / at_once).max(1);
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
