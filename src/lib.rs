@@ -13,6 +13,8 @@ pub mod cost;
 pub mod error;
 pub mod exec;
 pub mod formats;
+#[doc(hidden)]
+pub mod fuzzing;
 pub mod generate;
 pub mod host;
 pub mod io;

@@ -23,11 +23,57 @@ pub struct NpyArray {
 
 /// Reads a `.npy` file.
 pub fn read_npy(path: &Path) -> Result<NpyArray> {
-    let bad = |m: String| Error::in_source(path.display().to_string(), m);
+    let source = path.display().to_string();
     let file = std::fs::File::open(path).map_err(|e| Error::read(path, e))?;
-    let npy = NpyFile::new(std::io::BufReader::new(file))
-        .map_err(|e| bad(format!("not a valid .npy file: {e}")))?;
+    let meta = file.metadata().map_err(|e| Error::read(path, e))?;
+    if !meta.is_file() {
+        return Err(Error::in_source(source, "not a regular file"));
+    }
+    read_npy_from(std::io::BufReader::new(file), meta.len(), &source)
+}
+
+/// Parses `.npy` bytes already in memory (`source` names them in errors).
+pub fn parse_npy(bytes: &[u8], source: &str) -> Result<NpyArray> {
+    read_npy_from(bytes, bytes.len() as u64, source)
+}
+
+/// Reads a `.npy` stream of `len` bytes in all. The shape in the header is
+/// checked against `len` before any element is read, so a damaged or
+/// hostile header cannot make the reader allocate more than the file holds.
+fn read_npy_from<R: std::io::Read>(mut reader: R, len: u64, source: &str) -> Result<NpyArray> {
+    let bad = |m: String| Error::in_source(source, m);
+    // The reader library multiplies the shape without checking for
+    // overflow, so the shape is read and checked here first.
+    let head =
+        read_header_bytes(&mut reader).map_err(|m| bad(format!("not a valid .npy file: {m}")))?;
+    if let Some(shape) = header_shape(&head) {
+        if shape
+            .iter()
+            .try_fold(1u64, |acc, &d| acc.checked_mul(d))
+            .is_none()
+        {
+            return Err(bad(format!(
+                "the header's shape {shape:?} has more than 2^64 elements"
+            )));
+        }
+    }
+    let reader = std::io::Read::chain(std::io::Cursor::new(head), reader);
+    let npy = NpyFile::new(reader).map_err(|e| bad(format!("not a valid .npy file: {e}")))?;
     let shape = npy.shape().to_vec();
+    let elements = shape.iter().try_fold(1u64, |acc, &d| acc.checked_mul(d));
+    let data_bytes = match (elements, npy.dtype().num_bytes()) {
+        (Some(n), Some(b)) => n.checked_mul(b as u64),
+        _ => None,
+    };
+    match data_bytes {
+        Some(b) if b <= len => {}
+        _ => {
+            return Err(bad(format!(
+                "the header's shape {shape:?} describes {} bytes of data, but the file holds {len} bytes in all",
+                data_bytes.map_or_else(|| "more than 2^64".to_string(), |b| b.to_string())
+            )))
+        }
+    }
     let order = npy.order();
     let type_str = match npy.dtype() {
         npyz::DType::Plain(t) => t,
@@ -39,7 +85,15 @@ pub fn read_npy(path: &Path) -> Result<NpyArray> {
         }
     };
     let size = type_str.size_field();
-    let read_err = |e: std::io::Error| bad(format!("cannot read the data: {e}"));
+    let read_err = |e: std::io::Error| {
+        if e.kind() == std::io::ErrorKind::UnexpectedEof {
+            bad(format!(
+                "the file ends before the {shape:?} elements its header describes"
+            ))
+        } else {
+            bad(format!("cannot read the data: {e}"))
+        }
+    };
     let values: Vec<Complex64> = match (type_str.type_char(), size) {
         (TypeChar::Float, 4) => npy.into_vec::<f32>().map_err(read_err)?.into_iter().map(|x| Complex64::new(x as f64, 0.0)).collect(),
         (TypeChar::Float, 8) => npy.into_vec::<f64>().map_err(read_err)?.into_iter().map(|x| Complex64::new(x, 0.0)).collect(),
@@ -65,6 +119,64 @@ pub fn read_npy(path: &Path) -> Result<NpyArray> {
         Order::Fortran => fortran_to_c(&values, &shape),
     };
     Ok(NpyArray { shape, values })
+}
+
+/// The magic string, version, header length and header dictionary of a
+/// `.npy` stream (numpy's format: `\x93NUMPY`, major and minor version, a
+/// u16 length in version 1 or a u32 in versions 2 and 3, then the text).
+fn read_header_bytes<R: std::io::Read>(reader: &mut R) -> std::result::Result<Vec<u8>, String> {
+    let mut head = vec![0u8; 8];
+    reader
+        .read_exact(&mut head)
+        .map_err(|_| "the file is shorter than the 8-byte .npy preamble".to_string())?;
+    if &head[..6] != b"\x93NUMPY" {
+        return Err("the file does not start with the .npy magic string".into());
+    }
+    let len = match head[6] {
+        1 => {
+            let mut b = [0u8; 2];
+            reader.read_exact(&mut b).map_err(|e| e.to_string())?;
+            head.extend_from_slice(&b);
+            u16::from_le_bytes(b) as usize
+        }
+        2 | 3 => {
+            let mut b = [0u8; 4];
+            reader.read_exact(&mut b).map_err(|e| e.to_string())?;
+            head.extend_from_slice(&b);
+            u32::from_le_bytes(b) as usize
+        }
+        v => return Err(format!("format version {v} is not one of 1, 2, 3")),
+    };
+    // numpy limits headers far below this; a larger one is damage.
+    if len > 1 << 20 {
+        return Err(format!("the header claims {len} bytes"));
+    }
+    let start = head.len();
+    head.resize(start + len, 0);
+    reader
+        .read_exact(&mut head[start..])
+        .map_err(|_| "the file ends inside the header".to_string())?;
+    Ok(head)
+}
+
+/// The shape in a `.npy` header, when it can be read as a tuple of
+/// integers (anything else is left for the reader library to judge).
+fn header_shape(head: &[u8]) -> Option<Vec<u64>> {
+    let text = std::str::from_utf8(head).ok().or_else(|| {
+        // The preamble is binary; the dictionary after it is ASCII.
+        head.iter()
+            .position(|&b| b == b'{')
+            .and_then(|i| std::str::from_utf8(&head[i..]).ok())
+    })?;
+    let after = &text[text.find("'shape'")? + "'shape'".len()..];
+    let open = after.find('(')?;
+    let close = after[open..].find(')')? + open;
+    after[open + 1..close]
+        .split(',')
+        .map(str::trim)
+        .filter(|t| !t.is_empty())
+        .map(|t| t.trim_end_matches('L').parse::<u64>().ok())
+        .collect()
 }
 
 /// Encodes row-major `values` of the given shape as `.npy` bytes: float64
@@ -142,6 +254,45 @@ fn fortran_to_c(values: &[Complex64], shape: &[u64]) -> Vec<Complex64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A version 1.0 `.npy` header for `descr` and `shape` (the layout is
+    /// numpy's documented format: magic, version, u16 length, dict padded
+    /// with spaces to a multiple of 64 bytes, newline).
+    fn header(descr: &str, shape: &str) -> Vec<u8> {
+        let mut dict =
+            format!("{{'descr': '{descr}', 'fortran_order': False, 'shape': {shape}, }}");
+        while (10 + dict.len() + 1) % 64 != 0 {
+            dict.push(' ');
+        }
+        dict.push('\n');
+        let mut out = b"\x93NUMPY\x01\x00".to_vec();
+        out.extend_from_slice(&(dict.len() as u16).to_le_bytes());
+        out.extend_from_slice(dict.as_bytes());
+        out
+    }
+
+    #[test]
+    fn a_header_larger_than_the_data_is_refused() {
+        // 2 x 2 float64 = 32 bytes of data; 16 given.
+        let mut bytes = header("<f8", "(2, 2)");
+        bytes.extend_from_slice(&[0; 16]);
+        let e = parse_npy(&bytes, "t.npy").unwrap_err().to_string();
+        assert!(e.contains("t.npy") && e.contains("ends before"), "{e}");
+        // 2^32 x 2^32 x 8 bytes does not fit in 64 bits: refused, not wrapped.
+        let bytes = header("<f8", "(4294967296, 4294967296)");
+        let e = parse_npy(&bytes, "t.npy").unwrap_err().to_string();
+        assert!(e.contains("more than 2^64"), "{e}");
+        // The same header with its data reads.
+        let mut bytes = header("<f8", "(2,)");
+        bytes.extend_from_slice(&1.5f64.to_le_bytes());
+        bytes.extend_from_slice(&(-2.0f64).to_le_bytes());
+        let a = parse_npy(&bytes, "t.npy").unwrap();
+        assert_eq!(a.shape, vec![2]);
+        assert_eq!(
+            a.values,
+            vec![Complex64::new(1.5, 0.0), Complex64::new(-2.0, 0.0)]
+        );
+    }
 
     #[test]
     fn written_files_read_back() {

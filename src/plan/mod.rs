@@ -208,18 +208,44 @@ impl Plan {
 /// Reads a plan file.
 pub fn read_plan(path: &Path) -> Result<Plan> {
     let text = std::fs::read_to_string(path).map_err(|e| Error::read(path, e))?;
-    let source = path.display().to_string();
-    let plan: Plan = crate::io::parse_toml(&text, &source, "plan file")?;
+    parse_plan(&text, &path.display().to_string())
+}
+
+/// Parses plan-file text (`source` names it in errors) and checks its
+/// header and tree.
+pub fn parse_plan(text: &str, source: &str) -> Result<Plan> {
+    let plan: Plan = crate::io::parse_toml(text, source, "plan file")?;
     crate::io::check_header(
-        &source,
+        source,
         "plan",
         &plan.format,
         PLAN_FORMAT,
         plan.version,
         PLAN_VERSION,
     )?;
-    plan.tree()
-        .map_err(|e| Error::in_source(&source, e.to_string()))?;
+    let bad = |m: String| Error::in_source(source, m);
+    let tree = plan.tree().map_err(|e| bad(e.to_string()))?;
+    tree.check_order(&plan.order)
+        .map_err(|m| bad(format!("order: {m}")))?;
+    for (k, s) in plan.sliced.iter().enumerate() {
+        if s.dim == 0 {
+            return Err(bad(format!(
+                "sliced index '{}' has dimension 0; dimensions are at least 1",
+                s.name
+            )));
+        }
+        if plan.sliced[..k].iter().any(|t| t.name == s.name) {
+            return Err(bad(format!("sliced index '{}' is listed twice", s.name)));
+        }
+    }
+    if plan.slice_count().is_none() {
+        return Err(bad(
+            "the sliced dimensions multiply to more than 2^64 slices".into(),
+        ));
+    }
+    if plan.slices_at_once == 0 {
+        return Err(bad("slices_at_once is 0; it is at least 1".into()));
+    }
     Ok(plan)
 }
 

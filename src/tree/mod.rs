@@ -10,7 +10,9 @@
 mod file;
 mod nested;
 
-pub use file::{read_tree_file, tree_file_text, write_tree_file, TREE_FORMAT, TREE_VERSION};
+pub use file::{
+    parse_tree_text, read_tree_file, tree_file_text, write_tree_file, TREE_FORMAT, TREE_VERSION,
+};
 pub use nested::{parse_nested, to_nested};
 
 /// A binary contraction tree in single-assignment form.
