@@ -140,3 +140,129 @@ fn killed_mid_chunk_then_completed() {
         whole.lanes
     );
 }
+
+/// Spawns the binary in `dir`, kills it (SIGKILL) after `after`, and
+/// returns whether it had already finished by then.
+fn spawn_and_kill(dir: &std::path::Path, args: &[&str], after: Duration) -> bool {
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_sliceplan"))
+        .args(args)
+        .current_dir(dir)
+        .stdout(std::process::Stdio::null())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    std::thread::sleep(after);
+    let finished = child.try_wait().unwrap().is_some();
+    let _ = child.kill();
+    child.wait().unwrap();
+    finished
+}
+
+/// Wall time of one uninterrupted run of `args`.
+fn timed(dir: &std::path::Path, args: &[&str]) -> Duration {
+    let start = Instant::now();
+    let o = sliceplan(dir, args);
+    assert!(o.status.success(), "{}", stderr(&o));
+    start.elapsed()
+}
+
+#[test]
+fn random_kills_never_leave_a_broken_plan_or_partial() {
+    use rand::{Rng, SeedableRng};
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(2026);
+    let dir = tempfile::tempdir().unwrap();
+    let demo = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/ising-6x6.toml");
+    let demo = demo.to_str().unwrap();
+
+    // plan -o: a file under the final name is always the whole plan a full
+    // run writes (the search is seeded, so only the timing note differs).
+    let plan_args = |out: &'static str| {
+        vec![
+            "plan",
+            demo,
+            "--budget",
+            "6KiB",
+            "--trials",
+            "8",
+            "--seed",
+            "1",
+            "--threads",
+            "1",
+            "-o",
+            out,
+        ]
+    };
+    let full = timed(dir.path(), &plan_args("reference.plan.toml"));
+    let comparable = |path: &std::path::Path| {
+        let mut p = sliceplan::plan::read_plan(path).unwrap();
+        p.predicted.tree_source.clear();
+        p
+    };
+    let reference = comparable(&dir.path().join("reference.plan.toml"));
+    let (mut whole, mut absent) = (0, 0);
+    for _ in 0..10 {
+        let target = dir.path().join("killed.plan.toml");
+        let _ = std::fs::remove_file(&target);
+        let after = full.mul_f64(rng.random_range(0.5..1.5));
+        spawn_and_kill(dir.path(), &plan_args("killed.plan.toml"), after);
+        if target.exists() {
+            assert_eq!(comparable(&target), reference, "killed after {after:?}");
+            whole += 1;
+        } else {
+            absent += 1;
+        }
+    }
+    eprintln!("plan -o: {whole} whole, {absent} absent after 10 kills");
+
+    // run: every partial left behind reads back whole, and gather rejects
+    // none of them; the last run completes the job with the right value.
+    let (net, plan) = kill_case(dir.path());
+    let run_args = [
+        "run",
+        "kill.plan.toml",
+        "--all",
+        "--of",
+        "16",
+        "--threads",
+        "1",
+        "--out",
+        "parts",
+    ];
+    let full = timed(dir.path(), &[&run_args[..7], &["--out", "timing"]].concat());
+    for _ in 0..8 {
+        let after = full.mul_f64(rng.random_range(0.0..0.5));
+        spawn_and_kill(dir.path(), &run_args, after);
+        for entry in std::fs::read_dir(dir.path().join("parts"))
+            .into_iter()
+            .flatten()
+        {
+            let path = entry.unwrap().path();
+            let name = path.file_name().unwrap().to_string_lossy().into_owned();
+            if name.ends_with(".partial") {
+                let p = sliceplan::exec::partial::read_partial(&path)
+                    .unwrap_or_else(|e| panic!("{name} is broken after a kill: {e}"));
+                assert_eq!(p.header.plan_fingerprint, plan.fingerprint());
+            } else {
+                assert!(name.starts_with(".sliceplan-"), "unexpected file {name}");
+            }
+        }
+        if dir.path().join("parts").exists() {
+            let o = sliceplan(dir.path(), &["gather", "kill.plan.toml", "parts", "--json"]);
+            let j: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+            // A complete gather has no "rejected" list; an incomplete one
+            // must list none.
+            let rejected = j.get("rejected").cloned().unwrap_or(serde_json::json!([]));
+            assert_eq!(rejected, serde_json::json!([]), "{}", stdout(&o));
+        }
+    }
+    let o = sliceplan(dir.path(), &[&run_args[..], &["--json"]].concat());
+    assert!(o.status.success(), "{}", stderr(&o));
+    let j: serde_json::Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let got = [
+        j["result"]["value"]["re"].as_f64().unwrap(),
+        j["result"]["value"]["im"].as_f64().unwrap(),
+    ];
+    // Reference: the same network contracted without slicing, in process.
+    let whole = contract_whole(&plan, &net, 2, u64::MAX).unwrap();
+    assert!(relative_difference(&got, &whole.lanes) < 1e-10);
+}
