@@ -1,0 +1,6 @@
+OPENQASM 2.0;
+include "qelib1.inc";
+gate flip a { x a; }
+gate flip a { y a; }
+qreg q[1];
+flip q[0];

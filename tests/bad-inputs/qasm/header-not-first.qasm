@@ -1,0 +1,4 @@
+include "qelib1.inc";
+OPENQASM 2.0;
+qreg q[1];
+h q[0];

@@ -1,0 +1,7 @@
+OPENQASM 2.0;
+include "qelib1.inc";
+gate bell a, b {
+  h a;
+  cx a, b;
+qreg q[2];
+bell q[0], q[1];
