@@ -40,7 +40,7 @@ use serde::Deserialize;
 use toml::Spanned;
 
 use super::einsum;
-use crate::error::{line_of_offset, Error, Result};
+use crate::error::{line_of_offset, Error, LineIndex, Result};
 use crate::network::{Dtype, Fill, Network, NetworkBuilder, Values};
 
 /// The `format` value of a native network file.
@@ -99,7 +99,8 @@ pub fn read_native(path: &Path) -> Result<Network> {
 /// directory `.npy` paths are relative to, `default_name` is used when the
 /// file gives no `name`.
 pub fn parse_native(text: &str, source: &str, base: &Path, default_name: &str) -> Result<Network> {
-    let line = |offset: usize| Some(line_of_offset(text, offset));
+    let lines = LineIndex::new(text);
+    let line = |offset: usize| Some(lines.line(offset));
     let file: NativeFile = toml::from_str(text).map_err(|e| {
         let at = e.span().map(|s| line_of_offset(text, s.start)).unwrap_or(1);
         Error::at_line(
