@@ -10,6 +10,77 @@ use serde::de::DeserializeOwned;
 
 use crate::error::{line_of_offset, Error, Result};
 
+/// The largest text input file read: networks, circuits, formulas,
+/// graphs, trees, plans. Far above any real input (a 10^6-tensor lattice in
+/// the native format is 156 MB); a larger file is refused before it is
+/// read, so a wrong path (a disk image, a log) cannot exhaust memory.
+pub const MAX_TEXT_INPUT_BYTES: u64 = 2 << 30;
+
+/// Reads a text input file: a regular file of at most
+/// [`MAX_TEXT_INPUT_BYTES`], valid UTF-8 (an error names the line of the
+/// first bad byte), with a leading UTF-8 byte-order mark removed.
+pub fn read_text(path: &Path) -> Result<String> {
+    let source = path.display().to_string();
+    let meta = std::fs::metadata(path).map_err(|e| Error::read(path, e))?;
+    if meta.is_dir() {
+        return Err(Error::in_source(source, "is a directory, not a file"));
+    }
+    if meta.is_file() && meta.len() > MAX_TEXT_INPUT_BYTES {
+        return Err(Error::in_source(
+            source,
+            format!(
+                "the file holds {} bytes; input files of up to {MAX_TEXT_INPUT_BYTES} bytes (2 GiB) are read",
+                meta.len()
+            ),
+        ));
+    }
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)
+        .and_then(|f| {
+            use std::io::Read;
+            f.take(MAX_TEXT_INPUT_BYTES + 1).read_to_end(&mut bytes)
+        })
+        .map_err(|e| Error::read(path, e))?;
+    if bytes.len() as u64 > MAX_TEXT_INPUT_BYTES {
+        return Err(Error::in_source(
+            source,
+            format!(
+                "more than {MAX_TEXT_INPUT_BYTES} bytes (2 GiB) of input; is this the right file?"
+            ),
+        ));
+    }
+    text_from_bytes(bytes, &source)
+}
+
+/// Checks that `bytes` are UTF-8 text (naming the line of the first bad
+/// byte) and drops a leading byte-order mark.
+pub fn text_from_bytes(bytes: Vec<u8>, source: &str) -> Result<String> {
+    let mut text = String::from_utf8(bytes).map_err(|e| {
+        let offset = e.utf8_error().valid_up_to();
+        let line = e.as_bytes()[..offset]
+            .iter()
+            .filter(|&&b| b == b'\n')
+            .count()
+            + 1;
+        Error::at_line(
+            source,
+            line,
+            "the file is not UTF-8 text (is it a binary or compressed file?)",
+        )
+    })?;
+    if let Some(nul) = text.find('\0') {
+        return Err(Error::at_line(
+            source,
+            crate::error::line_of_offset(&text, nul),
+            "the file holds a NUL byte, so it is not a text file (is it a binary or compressed file?)",
+        ));
+    }
+    if text.starts_with('\u{feff}') {
+        text.drain(..'\u{feff}'.len_utf8());
+    }
+    Ok(text)
+}
+
 /// Parses TOML text into `T`; a syntax or schema error names the line.
 /// `what` names the kind of file, e.g. "plan file".
 pub fn parse_toml<T: DeserializeOwned>(text: &str, source: &str, what: &str) -> Result<T> {
@@ -75,6 +146,24 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn text_drops_a_byte_order_mark_and_refuses_binary() {
+        let t = super::text_from_bytes(b"\xef\xbb\xbfp cnf 1 1\n1 0\n".to_vec(), "f.cnf").unwrap();
+        assert_eq!(t, "p cnf 1 1\n1 0\n");
+        let e = super::text_from_bytes(b"ok\nbad \xff\n".to_vec(), "f.cnf").unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("f.cnf:2: the file is not UTF-8 text"),
+            "{e}"
+        );
+        let e = super::text_from_bytes(b"a\n\nb\0c".to_vec(), "f.cnf").unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("f.cnf:3: the file holds a NUL byte"),
+            "{e}"
+        );
+    }
+
     #[test]
     fn writes_and_replaces() {
         let dir = tempfile::tempdir().unwrap();

@@ -20,7 +20,9 @@ fn main() -> ExitCode {
         }
         Err(err) => {
             let code = err.exit_code();
-            eprintln!("sliceplan: {:#}", anyhow::Error::from(err));
+            // The library's message already carries the OS error of an I/O
+            // failure; printing the source chain too would repeat it.
+            eprintln!("sliceplan: {err}");
             ExitCode::from(code)
         }
     }

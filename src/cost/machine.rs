@@ -88,7 +88,7 @@ pub struct Machine {
 impl Machine {
     /// Reads a machine profile.
     pub fn read(path: &Path) -> Result<Machine> {
-        let text = std::fs::read_to_string(path).map_err(|e| Error::read(path, e))?;
+        let text = crate::io::read_text(path)?;
         Machine::parse(&text, &path.display().to_string())
     }
 

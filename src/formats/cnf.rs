@@ -142,8 +142,7 @@ pub fn parse_cnf(text: &str, source: &str) -> Result<Cnf> {
 
 /// Reads a DIMACS CNF file.
 pub fn read_cnf(path: &Path) -> Result<Cnf> {
-    let bytes = std::fs::read(path).map_err(|e| Error::read(path, e))?;
-    let text = String::from_utf8_lossy(&bytes);
+    let text = crate::io::read_text(path)?;
     parse_cnf(&text, &path.display().to_string())
 }
 

@@ -86,7 +86,7 @@ struct TensorEntry {
 
 /// Reads a native network file.
 pub fn read_native(path: &Path) -> Result<Network> {
-    let text = std::fs::read_to_string(path).map_err(|e| Error::read(path, e))?;
+    let text = crate::io::read_text(path)?;
     let base = path.parent().unwrap_or(Path::new("."));
     let stem = path
         .file_stem()

@@ -97,7 +97,7 @@ impl Manifest {
 /// Reads `DIR/manifest.toml`; errors name the file and line.
 pub fn read_manifest(dir: &Path) -> Result<Manifest> {
     let path = dir.join(super::MANIFEST_FILE);
-    let text = std::fs::read_to_string(&path).map_err(|e| Error::read(&path, e))?;
+    let text = crate::io::read_text(&path)?;
     let source = path.display().to_string();
     let m: Manifest = crate::io::parse_toml(&text, &source, "job manifest")?;
     crate::io::check_header(

@@ -207,7 +207,7 @@ impl Plan {
 
 /// Reads a plan file.
 pub fn read_plan(path: &Path) -> Result<Plan> {
-    let text = std::fs::read_to_string(path).map_err(|e| Error::read(path, e))?;
+    let text = crate::io::read_text(path)?;
     parse_plan(&text, &path.display().to_string())
 }
 

@@ -44,7 +44,7 @@ struct TreeFile {
 
 /// Reads a tree file and checks it against the network.
 pub fn read_tree_file(path: &Path, net: &Network) -> Result<Tree> {
-    let text = std::fs::read_to_string(path).map_err(|e| Error::read(path, e))?;
+    let text = crate::io::read_text(path)?;
     parse_tree_text(&text, &path.display().to_string(), net)
 }
 

@@ -262,11 +262,8 @@ fn parse_edge_list<'a>(
 
 /// Reads a graph file.
 pub fn read_graph(path: &Path) -> Result<Graph> {
-    let bytes = std::fs::read(path).map_err(|e| Error::read(path, e))?;
-    parse_graph(
-        &String::from_utf8_lossy(&bytes),
-        &path.display().to_string(),
-    )
+    let text = crate::io::read_text(path)?;
+    parse_graph(&text, &path.display().to_string())
 }
 
 #[cfg(test)]

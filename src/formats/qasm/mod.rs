@@ -16,7 +16,7 @@ pub mod parser;
 
 use std::path::Path;
 
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::formats::circuit::{amplitude_network, AmplitudeSpec, Circuit};
 use crate::network::Network;
 
@@ -29,17 +29,9 @@ pub fn parse_qasm(text: &str, source: &str, name: &str) -> Result<Circuit> {
 
 /// Reads an OpenQASM 2.0 file.
 pub fn read_qasm(path: &Path) -> Result<Circuit> {
-    let bytes = std::fs::read(path).map_err(|e| Error::read(path, e))?;
     let source = path.display().to_string();
-    let text = String::from_utf8(bytes).map_err(|e| {
-        let offset = e.utf8_error().valid_up_to();
-        let line = e.as_bytes()[..offset]
-            .iter()
-            .filter(|&&b| b == b'\n')
-            .count()
-            + 1;
-        Error::at_line(&source, line, "the file is not valid UTF-8 text")
-    })?;
+    let text = crate::io::read_text(path)?;
+
     let name = path
         .file_stem()
         .map(|s| s.to_string_lossy().into_owned())
