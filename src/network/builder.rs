@@ -2,7 +2,9 @@
 
 use std::collections::HashMap;
 
-use super::{Dtype, Fill, Index, IndexId, Network, Tensor, TensorId, Values, MAX_DIM};
+use super::{
+    Dtype, Fill, Index, IndexId, Network, Tensor, TensorId, Values, MAX_DIM, MAX_RANK, MAX_TENSORS,
+};
 use crate::error::{Error, Location, Result};
 
 /// Collects indices and tensors, then validates them into a [`Network`].
@@ -191,6 +193,21 @@ impl NetworkBuilder {
         line: Option<usize>,
     ) -> Result<TensorId> {
         check_name(name).map_err(|m| self.err(line, format!("tensor name: {m}")))?;
+        if self.tensors.len() >= MAX_TENSORS {
+            return Err(self.err(
+                line,
+                format!("tensor '{name}': the network would have more than {MAX_TENSORS} tensors, the most this build accepts"),
+            ));
+        }
+        if indices.len() > MAX_RANK {
+            return Err(self.err(
+                line,
+                format!(
+                    "tensor '{name}' has {} indices; a tensor may have at most {MAX_RANK}",
+                    indices.len()
+                ),
+            ));
+        }
         if let Some(&other) = self.tensor_ids.get(name) {
             let at = self.tensor_lines[other]
                 .map(|l| format!(" (first on line {l})"))
@@ -351,6 +368,25 @@ fn check_name(name: &str) -> std::result::Result<(), String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn rank_above_the_cap_is_refused() {
+        let mut b = NetworkBuilder::new("n.toml");
+        b.default_dim(1, None).unwrap();
+        let names: Vec<String> = (0..=MAX_RANK).map(|k| format!("i{k}")).collect();
+        let e = b
+            .tensor("T", &names, None, Some(4))
+            .unwrap_err()
+            .to_string();
+        assert_eq!(
+            e,
+            format!(
+                "n.toml:4: tensor 'T' has {} indices; a tensor may have at most {MAX_RANK}",
+                MAX_RANK + 1
+            )
+        );
+        b.tensor("U", &names[..MAX_RANK], None, None).unwrap();
+    }
 
     #[test]
     fn repeated_index_in_one_tensor_is_refused() {

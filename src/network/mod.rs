@@ -27,6 +27,16 @@ pub type TensorId = usize;
 /// The largest dimension an index may have (2^63).
 pub const MAX_DIM: u64 = 1 << 63;
 
+/// The most tensors a network may have (2^23 = 8,388,608): eight times the
+/// 10^6-tensor lattices the search is benchmarked on. Readers refuse a file
+/// that would build more, before building it.
+pub const MAX_TENSORS: usize = 1 << 23;
+
+/// The most indices one tensor may carry. A tensor of rank 64 with
+/// dimensions of 2 already has 2^64 elements; ranks far beyond that are a
+/// damaged file, and checking them costs time quadratic in the rank.
+pub const MAX_RANK: usize = 1024;
+
 /// Element type of the tensors, which fixes the bytes per element.
 #[derive(
     Debug, Clone, Copy, PartialEq, Eq, Hash, Default, serde::Serialize, serde::Deserialize,
