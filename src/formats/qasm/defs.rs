@@ -11,6 +11,11 @@ use crate::formats::circuit::Gate;
 
 /// The most gates a circuit may expand to (nested definitions can multiply).
 pub const MAX_GATES: usize = 4_000_000;
+/// The most qubits a circuit may declare, over all its `qreg`s (2^20 =
+/// 1,048,576). Each qubit becomes at least two tensors (its `|0>` and its
+/// closing `<x|`), and reading a circuit of 2^20 qubits already takes
+/// gigabytes in a debug build; the `qreg` that crosses the cap is refused.
+pub const MAX_QUBITS: usize = 1 << 20;
 /// The deepest nesting of gate definitions expanded.
 pub const MAX_NESTING: usize = 100;
 
@@ -108,6 +113,12 @@ impl GateTable {
         let mut params = Vec::new();
         if cur.eat("(") && !cur.eat(")") {
             params = name_list(cur, "a parameter name")?;
+            if let Some(k) = (0..params.len()).find(|&k| params[..k].contains(&params[k])) {
+                return Err(cur.error(format!(
+                    "gate '{name}': parameter '{}' is listed twice; give each parameter its own name",
+                    params[k]
+                )));
+            }
             cur.expect(")", "after the parameter names")?;
         }
         let args = name_list(cur, "a qubit argument name")?;

@@ -23,6 +23,7 @@ use crate::network::Network;
 /// Parses OpenQASM 2.0 text. `source` names it in errors; `name` becomes
 /// the circuit's name.
 pub fn parse_qasm(text: &str, source: &str, name: &str) -> Result<Circuit> {
+    parser::check_version_first(text, source)?;
     let toks = lexer::tokenize(text, source)?;
     parser::Parser::new(lexer::Cursor::new(&toks, source)).program(name)
 }

@@ -5,13 +5,61 @@
 //! gate calls with register broadcast, `barrier` (ignored) and `measure`
 //! (ignored, as long as no gate follows it on the measured qubit). Refused
 //! with a 'not supported' message naming the line: `opaque`, `reset`, `if`,
-//! mid-circuit measurement, and includes other than `qelib1.inc`.
+//! mid-circuit measurement, includes other than `qelib1.inc`, and any
+//! OpenQASM version but 2.x (checked before the rest of the file is read).
+//! A circuit needs at least one qubit and at most [`MAX_QUBITS`].
 
-use super::defs::{check_arity, repeated, GateTable};
+use super::defs::{check_arity, repeated, GateTable, MAX_QUBITS};
 use super::expr::parse_expr;
-use super::lexer::{Cursor, Tok};
+use super::lexer::{tokenize, Cursor, Tok};
 use crate::error::Result;
 use crate::formats::circuit::{Circuit, Gate};
+
+/// The refusal of OpenQASM version `version`, unless it is 2.x.
+fn unsupported_version(version: f64) -> Option<String> {
+    (!(2.0..3.0).contains(&version)).then(|| {
+        format!("not supported: OpenQASM version {version}; this reader understands OpenQASM 2.0")
+    })
+}
+
+/// Refuses a file whose first statement is an `OPENQASM` header with a
+/// version other than 2.x, looking only at that statement (after blank and
+/// comment lines). The whole file is tokenized later; without this check an
+/// OpenQASM 3 file would fail on the first character OpenQASM 2.0 lacks
+/// (`c = measure q;`) instead of on its header.
+pub fn check_version_first(text: &str, source: &str) -> Result<()> {
+    let mut start = 0usize;
+    for line in text.split_inclusive('\n') {
+        let code = line.split("//").next().unwrap_or_default();
+        if code.trim().is_empty() {
+            start += line.len();
+            continue;
+        }
+        if !code.trim_start().starts_with("OPENQASM") {
+            return Ok(());
+        }
+        // Up to the header's ';' (or the end of its line): what follows
+        // may use syntax this lexer refuses.
+        let end = start + code.find(';').map_or(code.len(), |k| k + 1);
+        let Ok(toks) = tokenize(&text[..end], source) else {
+            return Ok(());
+        };
+        if let [first, version, ..] = toks.as_slice() {
+            let v = match version.tok {
+                Tok::Real(x) => x,
+                Tok::Int(n) => n as f64,
+                _ => return Ok(()),
+            };
+            if first.tok == Tok::Ident("OPENQASM".into()) {
+                if let Some(m) = unsupported_version(v) {
+                    return Err(crate::Error::at_line(source, version.line, m));
+                }
+            }
+        }
+        return Ok(());
+    }
+    Ok(())
+}
 
 /// A declared register.
 #[derive(Debug, Clone)]
@@ -77,6 +125,12 @@ impl<'a> Parser<'a> {
             self.statement()?;
             self.statements += 1;
         }
+        if self.qregs.is_empty() {
+            return Err(crate::Error::in_source(
+                self.cur.source,
+                "the circuit has no qubits; declare a register with `qreg q[2];`",
+            ));
+        }
         let mut labels = Vec::new();
         for r in &self.qregs {
             for k in 0..r.size {
@@ -138,6 +192,7 @@ impl<'a> Parser<'a> {
                 .error("'OPENQASM 2.0;' must be the first statement of the file"));
         }
         self.cur.bump();
+        let line = self.cur.line();
         let version = match self.cur.bump() {
             Tok::Real(x) => *x,
             Tok::Int(n) => *n as f64,
@@ -148,10 +203,8 @@ impl<'a> Parser<'a> {
                 )))
             }
         };
-        if !(2.0..3.0).contains(&version) {
-            return Err(self.cur.error(format!(
-                "not supported: OpenQASM version {version}; this reader understands OpenQASM 2.0"
-            )));
+        if let Some(m) = unsupported_version(version) {
+            return Err(crate::Error::at_line(self.cur.source, line, m));
         }
         self.cur.expect(";", "after the OPENQASM version")
     }
@@ -178,6 +231,7 @@ impl<'a> Parser<'a> {
     }
 
     fn register(&mut self, quantum: bool) -> Result<()> {
+        let line = self.cur.line();
         self.cur.bump();
         let kind = if quantum { "qreg" } else { "creg" };
         let name = self.cur.ident(&format!("a register name after {kind}"))?;
@@ -201,7 +255,17 @@ impl<'a> Parser<'a> {
         } else {
             &mut self.cregs
         };
-        let offset = list.iter().map(|r| r.size).sum();
+        let offset: usize = list.iter().map(|r| r.size).sum();
+        if quantum && offset + size > MAX_QUBITS {
+            return Err(crate::Error::at_line(
+                self.cur.source,
+                line,
+                format!(
+                    "qreg '{name}' brings the circuit to {} qubits; a circuit may have at most 2^20 = {MAX_QUBITS} qubits",
+                    offset + size
+                ),
+            ));
+        }
         list.push(Register { name, size, offset });
         if quantum {
             self.measured.resize(offset + size, None);
@@ -372,5 +436,68 @@ impl<'a> Parser<'a> {
             .find(|r| q >= r.offset && q < r.offset + r.size)
             .map(|r| format!("{}[{}]", r.name, q - r.offset))
             .unwrap_or_else(|| format!("qubit {q}"))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::parse_qasm;
+
+    fn refusal(text: &str) -> String {
+        parse_qasm(text, "f.qasm", "circuit")
+            .unwrap_err()
+            .to_string()
+    }
+
+    #[test]
+    fn a_repeated_parameter_name_is_refused() {
+        let e = refusal("gate rot(t, t) a { U(t, 0, 0) a; }\nqreg q[1];\nrot(0.1, 0.2) q[0];\n");
+        assert!(
+            e.starts_with("f.qasm:1: gate 'rot': parameter 't' is listed twice"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn the_version_is_checked_before_the_rest_is_tokenized() {
+        // '=' on line 3 is not OpenQASM 2.0; the header on line 1 is named first.
+        let e = refusal("OPENQASM 3.0;\nqubit[2] q;\nc = measure q;\n");
+        assert!(
+            e.starts_with("f.qasm:1: not supported: OpenQASM version 3;"),
+            "{e}"
+        );
+        // Comment and blank lines before the header: it is on line 3.
+        let e = refusal("// made by hand\n\nOPENQASM 3; bit c; c = 1;\n");
+        assert!(
+            e.starts_with("f.qasm:3: not supported: OpenQASM version 3;"),
+            "{e}"
+        );
+        // A 2.0 header does not hide a later stray character (line 3).
+        let e = refusal("OPENQASM 2.0;\nqreg q[1];\nc = 1;\n");
+        assert!(e.starts_with("f.qasm:3: unexpected character '='"), "{e}");
+    }
+
+    #[test]
+    fn a_circuit_without_qubits_names_the_file() {
+        for text in ["", "OPENQASM 2.0;\ncreg c[2];\n"] {
+            let e = refusal(text);
+            assert!(
+                e.starts_with("f.qasm: the circuit has no qubits"),
+                "{text:?}: {e}"
+            );
+        }
+    }
+
+    #[test]
+    fn the_qreg_that_crosses_the_qubit_cap_is_refused() {
+        // 2^20 - 1 + 1 = 2^20 qubits: exactly MAX_QUBITS, accepted.
+        let c = parse_qasm("qreg a[1048575];\nqreg b[1];\n", "f.qasm", "c").unwrap();
+        assert_eq!(c.num_qubits(), super::MAX_QUBITS);
+        // 2^20 + 1 = 1048577 qubits, crossed by 'b' on line 2.
+        let e = refusal("qreg a[1048576];\ncreg c[4];\nqreg b[1];\n");
+        assert!(
+            e.starts_with("f.qasm:3: qreg 'b' brings the circuit to 1048577 qubits; a circuit may have at most 2^20 = 1048576 qubits"),
+            "{e}"
+        );
     }
 }
