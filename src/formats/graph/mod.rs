@@ -12,7 +12,10 @@
 //! vertex that is on no edge cannot be written in this form.
 //!
 //! A file is read as DIMACS when its first line that is neither blank nor a
-//! comment starts with `p`. Both forms refuse self-loops; an edge listed
+//! comment starts with `p`. Without that header, a line `e U V` with U and V
+//! positive whole numbers is refused as a DIMACS edge line before its
+//! header, not read as an edge from a vertex named `e`. The header may
+//! declare at most [`MAX_TENSORS`] vertices. Both forms refuse self-loops; an edge listed
 //! twice is kept once (with the same coupling, or it is an error).
 
 pub mod problems;
@@ -21,6 +24,7 @@ use std::collections::HashMap;
 use std::path::Path;
 
 use crate::error::{Error, Result};
+use crate::network::MAX_TENSORS;
 
 pub use problems::{graph_network, GraphProblem};
 
@@ -169,8 +173,12 @@ fn parse_dimacs<'a>(lines: impl Iterator<Item = (usize, &'a str)>, source: &str)
                 let (n, m) = parsed.ok_or_else(|| {
                     Error::at_line(source, no, format!("malformed header '{line}'; expected `p edge VERTICES EDGES`"))
                 })?;
-                if n > 1 << 24 {
-                    return Err(Error::at_line(source, no, format!("{n} vertices is more than this reader accepts (2^24)")));
+                // Checked before anything is built per vertex: each vertex
+                // becomes at least one tensor.
+                if n > MAX_TENSORS {
+                    return Err(Error::at_line(source, no, format!(
+                        "{n} vertices is more than this reader accepts (2^23 = {MAX_TENSORS}, the most tensors a network may have)"
+                    )));
                 }
                 header = Some((n, m, no));
             }
@@ -225,6 +233,12 @@ fn parse_edge_list<'a>(
             .split(|c: char| c.is_whitespace() || c == ',')
             .filter(|s| !s.is_empty())
             .collect();
+        let positive = |t: &str| t.parse::<u64>().is_ok_and(|n| n >= 1);
+        if f.len() >= 3 && f[0] == "e" && positive(f[1]) && positive(f[2]) {
+            return Err(Error::at_line(source, no, format!(
+                "'{line}' is a DIMACS edge line, but no `p edge VERTICES EDGES` header comes before it; add the header as the first line (in a plain edge list, rename the vertex 'e')"
+            )));
+        }
         if f.len() != 2 && f.len() != 3 {
             return Err(Error::at_line(source, no, format!(
                 "'{line}' is not an edge; write `U V` or `U V COUPLING` (comments start with # or %)"
@@ -286,6 +300,17 @@ mod tests {
     }
 
     #[test]
+    fn a_vertex_named_e_is_fine_when_the_line_is_not_dimacs() {
+        // Only `e`, then two positive whole numbers, reads as a DIMACS line.
+        let g = parse_graph("e 1 -2\ne x -2\n1 x 0.5\ne 0 1\n", "t").unwrap();
+        // Hand count: edges e-1, e-x, 1-x, e-0 on vertices e, 1, x, 0.
+        assert_eq!(g.edges.len(), 4);
+        assert_eq!(g.names.len(), 4);
+        let g = parse_graph("e 1\n1 2\n", "t").unwrap();
+        assert_eq!(g.edges, vec![(0, 1), (1, 2)]);
+    }
+
+    #[test]
     fn malformed_graphs_are_named() {
         let cases = [
             ("p edge 3 1\ne 1 4\n", "t:2: vertex '4' is out of range"),
@@ -306,6 +331,19 @@ mod tests {
             ),
             ("p edge 3 1\nx 1 2\n", "t:2: unexpected line type 'x'"),
             ("1 2 inf\n", "t:1: 'inf' is not a coupling"),
+            (
+                "e 1 2\ne 2 3\n",
+                "t:1: 'e 1 2' is a DIMACS edge line, but no `p edge VERTICES EDGES` header comes before it",
+            ),
+            (
+                "# no header\n\ne 1 2 0.5\n",
+                "t:3: 'e 1 2 0.5' is a DIMACS edge line, but no `p edge",
+            ),
+            // 2^23 + 1 = 8388609 vertices: one over MAX_TENSORS.
+            (
+                "p edge 8388609 1\ne 1 2\n",
+                "t:1: 8388609 vertices is more than this reader accepts (2^23 = 8388608,",
+            ),
         ];
         for (text, want) in cases {
             let e = parse_graph(text, "t").unwrap_err().to_string();
