@@ -5,7 +5,7 @@
 //! variable numbers ended by `0`, free to span lines. A line starting with
 //! `%` ends the data (the SATLIB archives end every file with `%`, `0`).
 //! The count is over all declared variables, so a variable no clause uses
-//! doubles it.
+//! doubles it. The header may declare at most [`MAX_TENSORS`] variables.
 //!
 //! Network: variable v is the index `x<v>` (dimension 2, value 0 = false),
 //! shared by every clause that mentions it (a hyperedge). Clause k (k-th in
@@ -20,7 +20,7 @@
 use std::path::Path;
 
 use crate::error::{Error, Result};
-use crate::network::{Dtype, Network, NetworkBuilder, Values};
+use crate::network::{Dtype, Network, NetworkBuilder, Values, MAX_TENSORS};
 
 /// Clauses with more literals than this are written as a chain.
 pub const CHAIN_FROM: usize = 10;
@@ -73,10 +73,12 @@ pub fn parse_cnf(text: &str, source: &str) -> Result<Cnf> {
                     "malformed header '{line}'; expected `p cnf VARIABLES CLAUSES` with two whole numbers"
                 ))
             })?;
-            if v > 1 << 24 {
+            // Checked before anything is built per variable: an unused
+            // variable becomes a tensor of its own.
+            if v > MAX_TENSORS {
                 return Err(err(
                     line_no,
-                    format!("{v} variables is more than this reader accepts (2^24)"),
+                    format!("{v} variables is more than this reader accepts (2^23 = {MAX_TENSORS}, the most tensors a network may have)"),
                 ));
             }
             header = Some((v, c, line_no));
@@ -300,6 +302,11 @@ mod tests {
             ("p cnf 2 1\n1 a 0\n", "t:2: 'a' is not a literal"),
             ("p wcnf 2 1\n1 0\n", "t:1: not supported: `p wcnf`"),
             ("c nothing\n", "t: no `p cnf"),
+            // 2^23 + 1 = 8388609 variables: one over MAX_TENSORS.
+            (
+                "p cnf 8388609 1\n1 0\n",
+                "t:1: 8388609 variables is more than this reader accepts (2^23 = 8388608,",
+            ),
         ];
         for (text, want) in cases {
             let e = parse_cnf(text, "t").unwrap_err().to_string();
