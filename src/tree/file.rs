@@ -36,7 +36,11 @@ struct TreeFile {
     network: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     tensors: Option<usize>,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "super::deserialize_optional_merges"
+    )]
     merges: Option<Vec<[usize; 2]>>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     nested: Option<String>,

@@ -15,6 +15,37 @@ pub use file::{
 };
 pub use nested::{parse_nested, to_nested};
 
+/// Reads a merge list strictly: every merge must list exactly two nodes.
+/// (Read as fixed pairs directly, a `[0, 1, 4]` lost its third number
+/// without a word.) For `#[serde(deserialize_with)]` in our file formats.
+pub fn deserialize_merges<'de, D>(d: D) -> Result<Vec<[usize; 2]>, D::Error>
+where
+    D: serde::Deserializer<'de>,
+{
+    use serde::de::Error as _;
+    use serde::Deserialize as _;
+    let raw: Vec<Vec<usize>> = Vec::deserialize(d)?;
+    raw.into_iter()
+        .enumerate()
+        .map(|(k, m)| {
+            <[usize; 2]>::try_from(m.as_slice()).map_err(|_| {
+                D::Error::custom(format!(
+                    "merge {k} lists {} node(s) {m:?}; every merge joins exactly two nodes",
+                    m.len()
+                ))
+            })
+        })
+        .collect()
+}
+
+/// [`deserialize_merges`] for an optional key.
+pub fn deserialize_optional_merges<'de, D>(d: D) -> Result<Option<Vec<[usize; 2]>>, D::Error>
+where
+    D: serde::Deserializer<'de>,
+{
+    deserialize_merges(d).map(Some)
+}
+
 /// A binary contraction tree in single-assignment form.
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
 pub struct Tree {
