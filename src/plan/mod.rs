@@ -79,6 +79,7 @@ pub struct Plan {
     /// Number of tensors.
     pub tensors: usize,
     /// The tree's merges in single-assignment form.
+    #[serde(deserialize_with = "crate::tree::deserialize_merges")]
     pub merges: Vec<[usize; 2]>,
     /// Traversal order: merge numbers in execution order.
     pub order: Vec<usize>,
