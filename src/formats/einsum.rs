@@ -1,7 +1,7 @@
 //! Einstein-summation equations such as `ab,bc,cd->ad`.
 //!
 //! Each character is one index (as in numpy's `einsum`). Operands are
-//! separated by commas; `->` introduces the output. Without `->`, the output
+//! separated by commas; one `->` introduces the output. Without `->`, the output
 //! is every index that appears exactly once, in alphabetical order (numpy's
 //! implicit mode). An index may appear in any number of operands (a hyperedge
 //! when three or more). An index repeated inside one operand (a trace or
@@ -27,6 +27,12 @@ pub fn parse_equation(eq: &str) -> std::result::Result<Equation, String> {
     let eq: String = eq.chars().filter(|c| !c.is_whitespace()).collect();
     if eq.contains("...") {
         return Err("ellipses ('...') are not supported; name every index".into());
+    }
+    let arrows = eq.matches("->").count();
+    if arrows > 1 {
+        return Err(format!(
+            "the equation has more than one '->' (it has {arrows}); write one, before the output, e.g. \"ab,bc->ac\""
+        ));
     }
     let (lhs, rhs) = match eq.split_once("->") {
         Some((l, r)) => (l, Some(r)),
@@ -158,6 +164,18 @@ mod tests {
         assert!(parse_equation("ii->").unwrap_err().contains("repeated"));
         assert!(parse_equation("ab->z").unwrap_err().contains("'z'"));
         assert!(parse_equation("a...,b").is_err());
+    }
+
+    #[test]
+    fn a_second_arrow_is_named() {
+        // Two '->' in "ab,bc->ac->a" (hand count), also with spaces.
+        for eq in ["ab,bc->ac->a", "ab, bc -> ac -> a"] {
+            let e = parse_equation(eq).unwrap_err();
+            assert!(
+                e.starts_with("the equation has more than one '->' (it has 2)"),
+                "{e}"
+            );
+        }
     }
 
     #[test]
