@@ -192,7 +192,33 @@ fn check_matches(
             layout.blocks()
         ));
     }
+    let dims: Vec<u64> = plan.sliced.iter().map(|s| s.dim).collect();
+    let expected = layout.blocks_of_slices(&dims, h.slices());
+    if h.blocks != expected {
+        return Err(format!(
+            "it lists output blocks {} but slices {}..{} fill blocks {}",
+            short_list(&h.blocks),
+            h.first_slice,
+            h.end_slice,
+            short_list(&expected)
+        ));
+    }
     Ok(())
+}
+
+/// A list for a message: all of it when short, else its ends.
+fn short_list(v: &[u64]) -> String {
+    if v.len() <= 8 {
+        format!("{v:?}")
+    } else {
+        format!(
+            "[{}, {}, ..., {}] ({} in all)",
+            v[0],
+            v[1],
+            v[v.len() - 1],
+            v.len()
+        )
+    }
 }
 
 /// The gaps and overlaps of `ranges` (sorted by start) over `0..total`.

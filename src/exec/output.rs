@@ -77,6 +77,42 @@ impl OutputLayout {
             .fold(0, |acc, &(k, _, d)| acc * d + values[k])
     }
 
+    /// The blocks the slices `range` write to, ascending: the list a
+    /// partial over that range must carry. `dims` are the dimensions of the
+    /// slice set in order (slice numbers are mixed radix, first slowest).
+    /// Walks the range with a mixed-radix counter and stops once every block
+    /// has been seen, so it costs at most one step per slice run.
+    pub fn blocks_of_slices(&self, dims: &[u64], range: std::ops::Range<u64>) -> Vec<u64> {
+        if range.is_empty() {
+            return Vec::new();
+        }
+        if self.sliced_open.is_empty() {
+            return vec![0];
+        }
+        let mut digits = vec![0u64; dims.len()];
+        let mut rest = range.start;
+        for k in (0..dims.len()).rev() {
+            digits[k] = rest % dims[k];
+            rest /= dims[k];
+        }
+        let all = self.blocks();
+        let mut seen = std::collections::BTreeSet::new();
+        for _ in range {
+            seen.insert(self.block_of(&digits));
+            if seen.len() as u64 == all {
+                break;
+            }
+            for k in (0..dims.len()).rev() {
+                digits[k] += 1;
+                if digits[k] < dims[k] {
+                    break;
+                }
+                digits[k] = 0;
+            }
+        }
+        seen.into_iter().collect()
+    }
+
     /// Adds `block` (lanes of block number `key`) into `acc`, the full output.
     pub fn add_block(
         &self,
@@ -135,5 +171,41 @@ mod tests {
         let mut acc = Accumulator::new(6, 1);
         layout.add_block(2, &[5.0, 6.0], 1, &mut acc);
         assert_eq!(acc.finish(), vec![0.0, 0.0, 5.0, 0.0, 0.0, 6.0]);
+    }
+
+    #[test]
+    fn blocks_of_slices_match_slice_by_slice() {
+        // Open i (2) and j (3), closed k (5); slice set [k, j, i] (k slowest).
+        let mut b = NetworkBuilder::new("t");
+        for (name, d) in [("i", 2), ("j", 3), ("k", 5)] {
+            b.declare(name, d, None).unwrap();
+        }
+        b.tensor("A", &["i", "j", "k"], None, None).unwrap();
+        b.tensor("B", &["k"], None, None).unwrap();
+        b.open("i", None).unwrap();
+        b.open("j", None).unwrap();
+        let net = b.build().unwrap();
+        let sliced = [2, 1, 0];
+        let dims = [5, 3, 2];
+        let layout = OutputLayout::new(&net, &sliced);
+        // Brute force: decode every slice number into its values and collect
+        // the blocks.
+        let brute = |r: std::ops::Range<u64>| {
+            let mut set = std::collections::BTreeSet::new();
+            for s in r {
+                let values = [s / 6, s / 2 % 3, s % 2];
+                set.insert(layout.block_of(&values));
+            }
+            set.into_iter().collect::<Vec<_>>()
+        };
+        for a in 0..30 {
+            for e in a..=30 {
+                assert_eq!(
+                    layout.blocks_of_slices(&dims, a..e),
+                    brute(a..e),
+                    "{a}..{e}"
+                );
+            }
+        }
     }
 }
