@@ -65,11 +65,88 @@ struct NativeFile {
     tensor: Vec<Spanned<TensorEntry>>,
 }
 
-#[derive(Debug, Deserialize)]
-#[serde(untagged)]
+/// A dimension as written: any TOML value, judged by [`dim_value`] so that
+/// a float, an integer beyond i64 or a boolean gets the same message as a
+/// dimension of 0 (serde's untagged enums would only say that no variant
+/// matched, and the TOML integer type stops at i64).
+#[derive(Debug)]
 enum DimValue {
-    Int(i64),
+    /// An integer; the TOML reader gives those beyond i64 as 128-bit.
+    Int(i128),
+    /// An integer beyond even 128 bits, as its digits.
+    BigInt(String),
+    Float(f64),
     Text(String),
+    /// Anything else, described (`true`, `an array`, ...).
+    Other(String),
+}
+
+impl<'de> Deserialize<'de> for DimValue {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        d.deserialize_any(DimVisitor)
+    }
+}
+
+struct DimVisitor;
+
+impl<'de> serde::de::Visitor<'de> for DimVisitor {
+    type Value = DimValue;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter) -> std::fmt::Result {
+        f.write_str("a dimension")
+    }
+
+    fn visit_i64<E>(self, v: i64) -> std::result::Result<DimValue, E> {
+        Ok(DimValue::Int(v.into()))
+    }
+
+    fn visit_u64<E>(self, v: u64) -> std::result::Result<DimValue, E> {
+        Ok(DimValue::Int(v.into()))
+    }
+
+    fn visit_i128<E>(self, v: i128) -> std::result::Result<DimValue, E> {
+        Ok(DimValue::Int(v))
+    }
+
+    fn visit_u128<E>(self, v: u128) -> std::result::Result<DimValue, E> {
+        Ok(i128::try_from(v).map_or_else(|_| DimValue::BigInt(v.to_string()), DimValue::Int))
+    }
+
+    fn visit_f64<E>(self, v: f64) -> std::result::Result<DimValue, E> {
+        Ok(DimValue::Float(v))
+    }
+
+    fn visit_bool<E>(self, v: bool) -> std::result::Result<DimValue, E> {
+        Ok(DimValue::Other(v.to_string()))
+    }
+
+    fn visit_str<E>(self, v: &str) -> std::result::Result<DimValue, E> {
+        Ok(DimValue::Text(v.to_string()))
+    }
+
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(
+        self,
+        mut seq: A,
+    ) -> std::result::Result<DimValue, A::Error> {
+        while seq.next_element::<serde::de::IgnoredAny>()?.is_some() {}
+        Ok(DimValue::Other("an array".into()))
+    }
+
+    fn visit_map<A: serde::de::MapAccess<'de>>(
+        self,
+        mut map: A,
+    ) -> std::result::Result<DimValue, A::Error> {
+        // A TOML date-time reaches a visitor as a one-entry map whose key
+        // is the reader's private marker.
+        let mut what = "a table";
+        while let Some(key) = map.next_key::<String>()? {
+            if key.contains("datetime") {
+                what = "a date or time";
+            }
+            map.next_value::<serde::de::IgnoredAny>()?;
+        }
+        Ok(DimValue::Other(what.into()))
+    }
 }
 
 #[derive(Debug, Deserialize)]
@@ -103,11 +180,16 @@ pub fn parse_native(text: &str, source: &str, base: &Path, default_name: &str) -
     let line = |offset: usize| Some(lines.line(offset));
     let file: NativeFile = toml::from_str(text).map_err(|e| {
         let at = e.span().map(|s| line_of_offset(text, s.start)).unwrap_or(1);
-        Error::at_line(
-            source,
-            at,
-            format!("not a valid network file: {}", e.message().trim()),
-        )
+        let mut message = e.message().trim().to_string();
+        // The TOML reader gives up on integers beyond 128 bits before any
+        // field sees them; say which number and what would fit.
+        if message == "integer number overflowed" {
+            let shown = e.span().and_then(|s| text.get(s)).unwrap_or("").trim();
+            message = format!(
+                "integer {shown} is too large; dimensions are whole numbers from 1 to 2^63 (write 2^63 as the string \"2^63\"), other integers fit in 64 bits"
+            );
+        }
+        Error::at_line(source, at, format!("not a valid network file: {message}"))
     })?;
     if let Some(f) = &file.format {
         if f.get_ref() != NETWORK_FORMAT {
@@ -201,8 +283,13 @@ fn dim_value(v: &DimValue, what: &str) -> std::result::Result<u64, String> {
         format!("index '{what}': dimension {shown} is not valid; dimensions are whole numbers from 1 to 2^63 (write 2^63 as the string \"2^63\")")
     };
     match v {
-        DimValue::Int(i) if *i >= 1 => Ok(*i as u64),
+        // Bare integers stop at i64::MAX, as TOML's do; 2^63 is a string.
+        DimValue::Int(i) if (1..=i64::MAX as i128).contains(i) => Ok(*i as u64),
         DimValue::Int(i) => Err(bad(&i.to_string())),
+        DimValue::BigInt(digits) => Err(bad(digits)),
+        // `{:?}` keeps the point: 2.0, not 2.
+        DimValue::Float(x) => Err(bad(&format!("{x:?}"))),
+        DimValue::Other(what) => Err(bad(what)),
         DimValue::Text(s) => {
             let t = s.trim();
             let parsed = match t.split_once('^') {
@@ -271,5 +358,67 @@ fn tensor_values(
         Some(other) => Err(format!(
             "tensor '{name}': unknown fill '{other}'; valid fills: \"ones\", \"copy\", \"random\" (with optional `seed`)"
         )),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn parse(text: &str) -> Result<Network> {
+        parse_native(text, "n.toml", Path::new("."), "n")
+    }
+
+    fn with_dim(value: &str) -> String {
+        format!("[indices]\na = {value}\n[[tensor]]\nindices = [\"a\"]\n")
+    }
+
+    #[test]
+    fn every_bad_dimension_value_gets_the_same_words() {
+        let words = "is not valid; dimensions are whole numbers from 1 to 2^63";
+        for (value, shown) in [
+            ("2.5", "2.5"),
+            ("2.0", "2.0"),
+            // 2^70 = 1180591620717411303424, beyond TOML's i64.
+            ("1180591620717411303424", "1180591620717411303424"),
+            // 2^63 = 9223372036854775808: in range, but only as a string.
+            ("9223372036854775808", "9223372036854775808"),
+            ("-3", "-3"),
+            ("true", "true"),
+            ("[2]", "an array"),
+        ] {
+            let e = parse(&with_dim(value)).unwrap_err().to_string();
+            let want = format!("n.toml:2: index 'a': dimension {shown} {words}");
+            assert!(e.starts_with(&want), "{value}: {e}");
+        }
+        let e = parse("dim = 1.5\neinsum = \"ab\"\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with(&format!("n.toml:1: index 'dim': dimension 1.5 {words}")),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn an_integer_beyond_128_bits_is_named() {
+        // 2^128 = 340282366920938463463374607431768211456: the TOML reader
+        // itself gives up on it.
+        let e = parse(&with_dim("340282366920938463463374607431768211456"))
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.starts_with("n.toml:2: not a valid network file: integer 340282366920938463463374607431768211456 is too large; dimensions are whole numbers from 1 to 2^63"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn the_largest_bare_and_string_dimensions_are_read() {
+        // i64::MAX = 2^63 - 1 is the largest bare TOML integer.
+        let net = parse(&with_dim("9223372036854775807")).unwrap();
+        assert_eq!(net.dims(), vec![(1u64 << 63) - 1]);
+        let net = parse(&with_dim("\"2^63\"")).unwrap();
+        assert_eq!(net.dims(), vec![1u64 << 63]);
     }
 }
