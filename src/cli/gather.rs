@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use clap::Args;
 
-use super::run::load_plan;
+use super::plan_files::open_plan;
 use super::{to_json, Outcome};
 use crate::error::{Result, EXIT_CANNOT};
 use crate::exec::report::{IncompleteReport, ResultReport};
@@ -29,6 +29,10 @@ pub struct GatherArgs {
     #[arg(short = 'o', long = "output", value_name = "RESULT.npy")]
     output: Option<PathBuf>,
 
+    /// The network file, when it has moved since the plan was written.
+    #[arg(long, value_name = "NET")]
+    network: Option<PathBuf>,
+
     /// Print one JSON object on stdout instead of text.
     #[arg(long)]
     json: bool,
@@ -49,7 +53,7 @@ fn resubmission(dir: &std::path::Path) -> Result<Option<PathBuf>> {
 }
 
 pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
-    let (plan, net) = load_plan(&args.plan)?;
+    let (plan, net) = open_plan(&args.plan, args.network.as_deref())?;
     match gather(&plan, &net, &args.dir)? {
         GatherOutcome::Complete(g) => {
             if let Some(path) = &args.output {

@@ -8,7 +8,8 @@ use serde::Serialize;
 
 use super::{to_json, Outcome};
 use crate::error::{Error, Result};
-use crate::formats::{self, LoadOptions};
+
+use super::plan_files::open_plan;
 use crate::jobs::array::array_spec;
 use crate::jobs::quote::shell_word;
 use crate::jobs::resources::{format_duration, process_need};
@@ -17,7 +18,6 @@ use crate::jobs::{
     job_status, write_jobs, ChunkChoice, JobOptions, MemChoice, Scheduler, Slurm, TimeChoice,
     WrittenJobs, LOCAL_FILE, SUBMIT_FILE,
 };
-use crate::plan::read_plan;
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan jobs job.plan.toml --out runs/job --chunks 64 --max-running 16 --partition compute
@@ -143,18 +143,7 @@ pub(super) fn run(args: JobsArgs) -> Result<Outcome> {
         (Some(p), Some(o)) => (p, o),
         _ => return Err(Error::usage("give PLAN and --out DIR, or --status DIR")),
     };
-    let plan = read_plan(plan_path)?;
-    let net_path = args
-        .network
-        .clone()
-        .unwrap_or_else(|| plan.network_path_from(plan_path));
-    let net = formats::load(&net_path, &LoadOptions::default()).map_err(|e| match e {
-        Error::Io { .. } => Error::usage(format!(
-            "{e}; the plan refers to this network file; give --network if it has moved"
-        )),
-        other => other,
-    })?;
-    plan.check_against(&net)?;
+    let (plan, net) = open_plan(plan_path, args.network.as_deref())?;
     let need = process_need(&plan, &net)?;
     let written = write_jobs(plan_path, &plan, &need, &opts, out)?;
     let submitted = if args.submit {

@@ -14,6 +14,7 @@ mod inspect;
 mod jobs;
 mod net_args;
 mod plan;
+mod plan_files;
 mod report;
 mod run;
 mod search_args;

@@ -4,11 +4,10 @@ use std::path::PathBuf;
 
 use clap::Args;
 
+use super::plan_files::open_plan;
 use super::{to_json, Outcome};
-use crate::error::{Error, Result};
-use crate::formats::{self, LoadOptions};
+use crate::error::Result;
 use crate::plan::advise::Advice;
-use crate::plan::read_plan;
 use crate::report::fit::FitReport;
 use crate::report::inspect::TreeReport;
 
@@ -48,17 +47,7 @@ pub struct ReportArgs {
 }
 
 pub(super) fn run(args: ReportArgs) -> Result<Outcome> {
-    let plan = read_plan(&args.plan)?;
-    let net_path = args
-        .network
-        .clone()
-        .unwrap_or_else(|| plan.network_path_from(&args.plan));
-    let net = formats::load(&net_path, &LoadOptions::default()).map_err(|e| match e {
-        Error::Io { .. } => Error::usage(format!(
-            "{e}; the plan refers to this network file; give --network if it has moved"
-        )),
-        other => other,
-    })?;
+    let (plan, net) = open_plan(&args.plan, args.network.as_deref())?;
     let advice = Advice::from_plan(&net, &plan)?;
     let metrics = crate::cost::NodeSets::new(&net, &advice.result.tree)
         .evaluate_unsliced(&net, crate::cost::PeakModel::default());

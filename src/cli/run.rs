@@ -8,6 +8,7 @@ use clap::{ArgGroup, Args};
 use indicatif::{ProgressBar, ProgressStyle};
 use serde::Serialize;
 
+use super::plan_files::open_plan;
 use super::{to_json, Outcome};
 use crate::error::{Error, Result, EXIT_CANNOT};
 use crate::exec::partial::ChunkId;
@@ -17,9 +18,8 @@ use crate::exec::verify::{compare, contract_whole, Verification};
 use crate::exec::{
     chunk_jobs, gather, run_plan, GatherOutcome, Progress, RunOptions, RunReport, Selection,
 };
-use crate::formats::{self, LoadOptions};
 use crate::network::Network;
-use crate::plan::{read_plan, Plan};
+use crate::plan::Plan;
 use crate::report::bytes_human;
 
 pub(super) const EXAMPLES: &str = "Examples:
@@ -84,6 +84,10 @@ pub struct RunArgs {
     )]
     output: Option<PathBuf>,
 
+    /// The network file, when it has moved since the plan was written.
+    #[arg(long, value_name = "NET")]
+    network: Option<PathBuf>,
+
     /// Print one JSON object on stdout instead of text.
     #[arg(long)]
     json: bool,
@@ -141,20 +145,6 @@ fn parse_range(text: &str) -> Result<Range<u64>> {
     Ok(a..b)
 }
 
-/// Reads a plan and the network it names, and checks that they belong together.
-pub(super) fn load_plan(path: &Path) -> Result<(Plan, Network)> {
-    let plan = read_plan(path)?;
-    let net_path = plan.network_path_from(path);
-    let net = formats::load(&net_path, &LoadOptions::default())?;
-    plan.check_against(&net).map_err(|e| {
-        Error::in_source(
-            path.display().to_string(),
-            format!("does not fit network {}: {e}", net_path.display()),
-        )
-    })?;
-    Ok((plan, net))
-}
-
 /// Refuses a run this machine cannot hold: the process's predicted need
 /// (inputs, output accumulator, slices at once x per-slice peak) against
 /// the memory available now.
@@ -200,7 +190,7 @@ struct RunJson<'a> {
 
 pub(super) fn run(args: RunArgs) -> Result<Outcome> {
     let (which, threads) = args.validate()?;
-    let (plan, net) = load_plan(&args.plan)?;
+    let (plan, net) = open_plan(&args.plan, args.network.as_deref())?;
     let total = plan.slice_count().ok_or_else(|| {
         Error::Cannot("the plan has more than 2^64 slices; no machine can run them".into())
     })?;
