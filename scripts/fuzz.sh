@@ -135,10 +135,9 @@ fuzz_one() {
         -max_len=65536 -print_final_stats=1 -fork=1 -ignore_crashes=1 \
         -ignore_timeouts=1 -ignore_ooms=1 \
         -artifact_prefix="$root/fuzz/artifacts/$target/" >"$log" 2>&1 || true
-    execs=$(grep -Eo 'stat::number_of_executed_units: *[0-9]+' "$log" | grep -Eo '[0-9]+$' | awk '{s+=$1} END {print s+0}')
-    if [ "$execs" = 0 ]; then
-        execs=$(grep -Eo '^#[0-9]+' "$log" | tail -1 | tr -d '#')
-    fi
+    # Fork mode prints progress lines "#N: cov: ..." with the running total
+    # of executions; the last one is the run's count.
+    execs=$({ grep -Eo '^#[0-9]+' "$log" || true; } | tail -1 | tr -d '#')
     after=$(find "fuzz/artifacts/$target" -type f | wc -l)
     printf '%-16s %12s %8s %8s\n' "$target" "${execs:-0}" $((minutes * 60)) $((after - before))
     printf '%s\t%s\t%s\t%s\t%s\n' "$date_now" "$target" "${execs:-0}" $((minutes * 60)) $((after - before)) >>fuzz/results.tsv
