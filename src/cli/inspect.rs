@@ -13,9 +13,9 @@ use crate::tree::{read_tree_file, Tree};
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan inspect demo-data/matrix-chain.toml
-  sliceplan inspect demo-data/matrix-chain.toml --tree demo-data/matrix-chain.tree.toml --json
+  sliceplan inspect demo-data/matrix-chain.toml --tree demo-data/trees/matrix-chain.tree.toml --json
   sliceplan inspect --einsum \"ab,bc,cd->ad\" --dims a=30,b=35,c=15,d=5
-  sliceplan inspect demo-data/lattice-6x6.toml --slice h0_0,h1_0 --nodes";
+  sliceplan inspect demo-data/ising-6x6.toml --slice h0_0a,h1_0a --nodes";
 
 /// Arguments of `inspect`.
 #[derive(Debug, Args)]

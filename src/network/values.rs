@@ -43,7 +43,15 @@ pub fn materialize(net: &Network, t: TensorId) -> Result<Vec<Complex64>> {
             None => re.iter().map(|&r| Complex64::new(r, 0.0)).collect(),
         }),
         Values::Npy(path) => {
-            let array = crate::npy::read_npy(path)?;
+            let array = crate::npy::read_npy(path).map_err(|e| match e {
+                // A missing or unreadable side file: say which tensor of
+                // which network names it.
+                Error::Io { .. } => Error::in_source(
+                    &net.name,
+                    format!("tensor '{}' takes its values from {e}", tensor.name),
+                ),
+                other => other,
+            })?;
             if array.shape != dims {
                 return Err(Error::in_source(
                     path.display().to_string(),
