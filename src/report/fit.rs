@@ -346,7 +346,12 @@ impl FitReport {
     }
 
     fn memory_unsliced_hint(&self) -> f64 {
-        self.tree.peak_bytes.parse::<f64>().unwrap_or(f64::INFINITY)
+        // Decimal while exact, `2^x.xx` beyond 2^128 (Count::to_json_string).
+        let text = &self.tree.peak_bytes;
+        match text.strip_prefix("2^") {
+            Some(exp) => exp.parse::<f64>().map_or(f64::INFINITY, f64::exp2),
+            None => text.parse::<f64>().unwrap_or(f64::INFINITY),
+        }
     }
 }
 

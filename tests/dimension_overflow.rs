@@ -1,0 +1,100 @@
+//! Dimension products near and beyond 2^64: exact values while they fit in
+//! a u128, log2 beyond, clear refusals where a machine integer is needed;
+//! never a wrapped number.
+
+use std::process::Command;
+
+fn sliceplan(args: &[&str]) -> (Option<i32>, String, String) {
+    let o = Command::new(env!("CARGO_BIN_EXE_sliceplan"))
+        .args(args)
+        .output()
+        .unwrap();
+    (
+        o.status.code(),
+        String::from_utf8_lossy(&o.stdout).into_owned(),
+        String::from_utf8_lossy(&o.stderr).into_owned(),
+    )
+}
+
+fn inspect_matmul(dim: u64) -> serde_json::Value {
+    let dims = format!("a={dim},b={dim},c={dim}");
+    let (code, out, err) = sliceplan(&[
+        "inspect",
+        "--einsum",
+        "ab,bc->ac",
+        "--dims",
+        &dims,
+        "--json",
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    serde_json::from_str(&out).unwrap()
+}
+
+#[test]
+fn matrix_products_straddling_2_64_stay_exact() {
+    // A (d x d) times (d x d): d^3 multiply-adds, peak = both inputs and the
+    // output, 3 d^2 elements (closed forms), computed here in u128.
+    for d in [u32::MAX as u64, 1 << 32, (1 << 32) + 1, 3_000_000_000_000] {
+        let j = inspect_matmul(d);
+        let d = d as u128;
+        let ops = d.checked_mul(d).and_then(|x| x.checked_mul(d));
+        match ops {
+            Some(ops) => assert_eq!(j["tree"]["total_ops"], ops.to_string(), "d = {d}"),
+            // Past 2^128 the count is carried as log2 only.
+            None => assert!(
+                j["tree"]["total_ops"].as_str().unwrap().starts_with("2^"),
+                "d = {d}"
+            ),
+        }
+        let log2 = 3.0 * (d as f64).log2();
+        assert!((j["tree"]["total_ops_log2"].as_f64().unwrap() - log2).abs() < 1e-9);
+        assert_eq!(
+            j["tree"]["peak_elements"],
+            (3 * d * d).to_string(),
+            "d = {d}"
+        );
+    }
+}
+
+#[test]
+fn beyond_2_128_counts_are_powers_of_two_not_wrapped() {
+    // d = 2^63: ops 2^189, output 2^126 elements, peak 3 x 2^126 (closed form).
+    let j = inspect_matmul(1 << 63);
+    assert_eq!(j["tree"]["total_ops"], "2^189.00");
+    assert_eq!(j["tree"]["total_ops_log2"], 189.0);
+    assert_eq!(j["network"]["output_size_log2"], 126.0);
+    assert_eq!(j["tree"]["peak_elements"], (3u128 << 126).to_string());
+    // fit cannot fit it and says so in powers of two: inputs 2 x 2^126 x 8 B
+    // = 2^130 B; output accumulator 2^126 x 2 lanes x 16 B = 2^131 B.
+    let dims = format!("a={0},b={0},c={0}", 1u64 << 63);
+    let (code, out, _) = sliceplan(&[
+        "fit",
+        "--einsum",
+        "ab,bc->ac",
+        "--dims",
+        &dims,
+        "--budget",
+        "1GiB",
+        "--trials",
+        "1",
+    ]);
+    assert_eq!(code, Some(1));
+    assert!(
+        out.contains("the inputs (2^130.00 B) and the output accumulator (2^131.00 B)"),
+        "{out}"
+    );
+    assert!(out.contains("peak 2^130.58 B unsliced"), "{out}");
+}
+
+#[test]
+fn dimensions_above_2_63_are_refused_by_name() {
+    let (code, _, err) = sliceplan(&[
+        "inspect",
+        "--einsum",
+        "ab,bc->ac",
+        "--dims",
+        "a=9223372036854775809,b=2,c=2",
+    ]);
+    assert_eq!(code, Some(2));
+    assert!(err.contains("index 'a'") && err.contains("2^63"), "{err}");
+}
