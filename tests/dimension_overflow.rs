@@ -98,3 +98,27 @@ fn dimensions_above_2_63_are_refused_by_name() {
     assert_eq!(code, Some(2));
     assert!(err.contains("index 'a'") && err.contains("2^63"), "{err}");
 }
+
+#[test]
+fn peaks_past_2_1024_are_finite_powers_of_two() {
+    // Two inputs of 17 indices of dimension 2^63 hold 2^1071 elements each,
+    // past the largest f64; with the third input and the output they are
+    // all live at the start, so the peak is 2^1071 + 2^1071 + (smaller
+    // terms) = 2^1072 to many digits (closed form).
+    let (code, out, err) = sliceplan(&[
+        "inspect",
+        "--einsum",
+        "abcdefghijklmnopq,bcdefghijklmnopqr,rs->as",
+        "--dim",
+        "9223372036854775808",
+        "--json",
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(j["tree"]["width"], 1071.0);
+    assert!(
+        (j["tree"]["peak_log2"].as_f64().unwrap() - 1072.0).abs() < 1e-9,
+        "{out}"
+    );
+    assert_eq!(j["tree"]["peak_elements"], "2^1072.00");
+}

@@ -322,11 +322,20 @@ impl NodeSets {
                 return Count::from_u128(peak);
             }
         }
-        let approx: Vec<f64> = sizes.iter().map(|c| c.to_f64()).collect();
+        // Beyond u128, in floating point scaled by the largest size, so
+        // sizes past 2^1024 (a 10^6-tensor lattice reaches 2^1833) neither
+        // overflow to infinity nor subtract to NaN; sizes below 2^-1074 of
+        // the largest vanish, which cannot move the peak's log2.
+        let scale = sizes
+            .iter()
+            .map(|c| c.log2)
+            .fold(f64::NEG_INFINITY, f64::max);
+        let scale = if scale.is_finite() { scale } else { 0.0 };
+        let approx: Vec<f64> = sizes.iter().map(|c| (c.log2 - scale).exp2()).collect();
         let peak = self
             .simulate(&approx, order, model, |x: f64, y: f64| Some(x + y), 0.0)
             .unwrap_or(f64::INFINITY);
-        Count::from_log2(peak.log2())
+        Count::from_log2(peak.log2() + scale)
     }
 
     /// Walks the live set of a traversal; `add` returns `None` on overflow.
