@@ -61,6 +61,8 @@ pub struct AnnealParams {
     pub t_end: f64,
     /// Refuse rotations that create a node above this log2 size.
     pub max_width: f64,
+    /// Stop early, keeping the best tree so far, once this moment passes.
+    pub deadline: Option<std::time::Instant>,
 }
 
 impl Default for AnnealParams {
@@ -70,6 +72,7 @@ impl Default for AnnealParams {
             t_start: 0.05,
             t_end: 0.001,
             max_width: f64::INFINITY,
+            deadline: None,
         }
     }
 }
@@ -99,7 +102,14 @@ pub fn anneal_tree<R: Rng>(
     let mut changed = false;
     let ratio = (params.t_end / params.t_start).powf(1.0 / params.steps as f64);
     let mut temp = params.t_start;
-    for _ in 0..params.steps {
+    for step in 0..params.steps {
+        if step % 1024 == 0
+            && params
+                .deadline
+                .is_some_and(|d| std::time::Instant::now() >= d)
+        {
+            break;
+        }
         temp *= ratio;
         let v = n + rng.random_range(0..m);
         let [l, r] = children[v - n];

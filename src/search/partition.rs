@@ -87,6 +87,8 @@ pub struct PartitionParams {
     pub tries: usize,
     /// Seed of the partitioner.
     pub seed: i32,
+    /// Give up (see [`partition_tree_until`]) once this moment passes.
+    pub deadline: Option<std::time::Instant>,
 }
 
 impl Default for PartitionParams {
@@ -99,6 +101,7 @@ impl Default for PartitionParams {
             greedy: GreedyParams::default(),
             tries: 1,
             seed: 1,
+            deadline: None,
         }
     }
 }
@@ -114,6 +117,7 @@ impl PartitionParams {
             greedy: GreedyParams::sample(rng),
             tries: rng.random_range(1..=4),
             seed: rng.random_range(0..i32::MAX),
+            deadline: None,
         }
     }
 }
@@ -124,11 +128,27 @@ pub fn partition_tree<R: Rng>(
     params: &PartitionParams,
     rng: &mut R,
 ) -> Vec<[usize; 2]> {
+    let params = PartitionParams {
+        deadline: None,
+        ..*params
+    };
+    partition_tree_until(p, &params, rng).expect("no deadline, so no early stop")
+}
+
+/// [`partition_tree`] that gives up, returning `None`, when
+/// `params.deadline` passes before the tree is done (a bisection of a
+/// 10^6-tensor network takes seconds, so a search with a time budget must
+/// be able to stop one).
+pub fn partition_tree_until<R: Rng>(
+    p: &Problem,
+    params: &PartitionParams,
+    rng: &mut R,
+) -> Option<Vec<[usize; 2]>> {
     let mut merges = Vec::with_capacity(p.len().saturating_sub(1));
     let all: Vec<u32> = (0..p.len() as u32).collect();
     let mut seed = params.seed;
-    build(p, params, rng, &all, &mut merges, &mut seed);
-    merges
+    build(p, params, rng, &all, &mut merges, &mut seed)?;
+    Some(merges)
 }
 
 /// Contracts the tensors of `set`; returns the node id of the part's root.
@@ -139,10 +159,16 @@ fn build<R: Rng>(
     set: &[u32],
     merges: &mut Vec<[usize; 2]>,
     seed: &mut i32,
-) -> usize {
+) -> Option<usize> {
     let n = p.len();
     if set.len() == 1 {
-        return set[0] as usize;
+        return Some(set[0] as usize);
+    }
+    if params
+        .deadline
+        .is_some_and(|d| std::time::Instant::now() >= d)
+    {
+        return None;
     }
     if set.len() <= params.leaf_size.max(2) {
         let (sub, _) = p.subset(set);
@@ -153,7 +179,7 @@ fn build<R: Rng>(
             .flatten()
             .unwrap_or_else(|| greedy_tree(&sub, &params.greedy, rng));
         let leaves: Vec<usize> = set.iter().map(|&t| t as usize).collect();
-        return splice(&local, &leaves, n, merges);
+        return Some(splice(&local, &leaves, n, merges));
     }
     let tries = if set.len() >= 64 {
         params.tries.max(1)
@@ -170,10 +196,10 @@ fn build<R: Rng>(
         }
     }
     let (_, left, right) = best.expect("at least one try");
-    let a = build(p, params, rng, &left, merges, seed);
-    let b = build(p, params, rng, &right, merges, seed);
+    let a = build(p, params, rng, &left, merges, seed)?;
+    let b = build(p, params, rng, &right, merges, seed)?;
     merges.push([a, b]);
-    n + merges.len() - 1
+    Some(n + merges.len() - 1)
 }
 
 /// Splits `set` in two non-empty parts.
