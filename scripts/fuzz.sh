@@ -128,10 +128,11 @@ fuzz_one() {
     mkdir -p fuzz/logs "fuzz/artifacts/$target"
     local before after execs
     before=$(find "fuzz/artifacts/$target" -type f | wc -l)
-    # Limits: 10 s per input, 2 GiB resident and per allocation; -fork keeps
+    # Limits: 30 s per input (inputs that declare 10^5 variables in a few
+    # bytes take seconds under the sanitizer), 2 GiB resident and per allocation; -fork keeps
     # going after a crash so one run can find several.
     nice -n 10 cargo +nightly fuzz run --release "$target" "fuzz/corpus/$target" -- \
-        -max_total_time=$((minutes * 60)) -timeout=10 -rss_limit_mb=2048 \
+        -max_total_time=$((minutes * 60)) -timeout=30 -rss_limit_mb=2048 \
         -max_len=65536 -print_final_stats=1 -fork=1 -ignore_crashes=1 \
         -ignore_timeouts=1 -ignore_ooms=1 \
         -artifact_prefix="$root/fuzz/artifacts/$target/" >"$log" 2>&1 || true

@@ -61,11 +61,11 @@ pub(super) fn run(args: InspectArgs) -> Result<Outcome> {
     let net = args.net.load()?;
     let dtype = dtype_arg.or(net.dtype).unwrap_or_default();
     let (tree, source) = match &args.tree {
-        Some(path) => (read_tree_file(path, &net)?, format!("from {}", path.display())),
-        None => (
-            Tree::left_deep(net.num_tensors()),
-            "baseline: tensors merged in file order (run `sliceplan plan` to search for a good tree)".to_string(),
+        Some(path) => (
+            read_tree_file(path, &net)?,
+            format!("from {}", path.display()),
         ),
+        None => baseline(&net)?,
     };
     let model = PeakModel {
         inputs: if args.inputs_on_first_use {
@@ -97,4 +97,65 @@ pub(super) fn run(args: InspectArgs) -> Result<Outcome> {
     } else {
         report.to_text()
     }))
+}
+
+/// Index entries the per-node sets may hold before the file-order baseline
+/// is replaced (about 800 MB).
+const BASELINE_MAX_ENTRIES: u64 = 100_000_000;
+
+/// The baseline tree: tensors merged in file order, unless its
+/// intermediates would hold more than [`BASELINE_MAX_ENTRIES`] index
+/// entries in all (a circuit's input states come first in the file, so a
+/// 60,000-qubit circuit's file-order tree holds about 2 x 10^9 and took 29 s
+/// and 5 GB); then one plain greedy trial, which is linear.
+fn baseline(net: &crate::network::Network) -> Result<(Tree, String)> {
+    let entries = file_order_entries(net);
+    if entries <= BASELINE_MAX_ENTRIES {
+        return Ok((
+            Tree::left_deep(net.num_tensors()),
+            "baseline: tensors merged in file order (run `sliceplan plan` to search for a good tree)".to_string(),
+        ));
+    }
+    let opts = crate::search::SearchOptions {
+        threads: 1,
+        finders: crate::search::Finders {
+            exact: false,
+            greedy: true,
+            partition: false,
+            refine: false,
+        },
+        ..crate::search::SearchOptions::trials(1, 0)
+    };
+    let found = crate::search::find_tree(net, &opts)?;
+    Ok((
+        found.tree,
+        format!("baseline: one greedy trial (the file-order tree would hold {entries} index entries; run `sliceplan plan` to search for a good tree)"),
+    ))
+}
+
+/// Index entries of the intermediates of the file-order (left-deep) tree:
+/// the sum over merges of the indices alive in the running result.
+fn file_order_entries(net: &crate::network::Network) -> u64 {
+    let mut remaining: Vec<u32> = vec![0; net.num_indices()];
+    for t in &net.tensors {
+        for &e in &t.indices {
+            remaining[e] += 1;
+        }
+    }
+    let open = net.open_mask();
+    let mut seen = vec![false; net.num_indices()];
+    let (mut live, mut total) = (0u64, 0u64);
+    for t in &net.tensors {
+        for &e in &t.indices {
+            if !std::mem::replace(&mut seen[e], true) {
+                live += 1;
+            }
+            remaining[e] -= 1;
+            if remaining[e] == 0 && !open[e] {
+                live -= 1;
+            }
+        }
+        total = total.saturating_add(live);
+    }
+    total
 }

@@ -176,18 +176,19 @@ pub fn amplitude_network(c: &Circuit, spec: &AmplitudeSpec) -> Result<Network> {
     let what = if open.len() == n {
         "state vector".to_string()
     } else {
+        let mut is_open = vec![false; n];
+        for &q in &open {
+            is_open[q] = true;
+        }
+        // Wide circuits name only the first 64 qubits' bits.
         let shown: String = bits
             .iter()
+            .take(64)
             .enumerate()
-            .map(|(q, &x)| {
-                if open.contains(&q) {
-                    '*'
-                } else {
-                    (b'0' + x) as char
-                }
-            })
+            .map(|(q, &x)| if is_open[q] { '*' } else { (b'0' + x) as char })
             .collect();
-        format!("amplitude <{shown}|")
+        let more = if n > 64 { "..." } else { "" };
+        format!("amplitude <{shown}{more}|")
     };
     b.name(format!("{} {what}", c.name));
     b.dtype(Dtype::C128);

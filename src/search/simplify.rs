@@ -94,7 +94,19 @@ impl Simplified {
         queue.reverse();
         let size = |l: &[u32]| p.weight_of(l);
         let mut count = n;
-        while let Some(t) = queue.pop() {
+        let mut scalars: std::collections::BTreeSet<usize> =
+            (0..n).filter(|&t| lists[t].is_empty()).collect();
+        let mut deferred: Vec<usize> = Vec::new();
+        let mut last_round = false;
+        loop {
+            let Some(t) = queue.pop() else {
+                if last_round || deferred.is_empty() {
+                    break;
+                }
+                last_round = true;
+                queue.append(&mut deferred);
+                continue;
+            };
             if !alive[t] || lists[t].len() > 2 || count <= 1 {
                 continue;
             }
@@ -107,7 +119,19 @@ impl Simplified {
                 .filter(|&u| u != t)
                 .collect();
             if lists[t].is_empty() {
-                candidates = (0..n).filter(|&u| alive[u] && u != t).collect();
+                // A scalar joins another scalar when there is one (a
+                // product of numbers, no cost); a lone scalar waits until
+                // the queue is done, so only the last one scans every
+                // tensor. Scanning for each of 60,000 scalars (a wide
+                // circuit without gates) was quadratic.
+                candidates = match scalars.iter().find(|&&u| u != t) {
+                    Some(&u) => vec![u],
+                    None if !last_round => {
+                        deferred.push(t);
+                        continue;
+                    }
+                    None => (0..n).filter(|&u| alive[u] && u != t).collect(),
+                };
             }
             candidates.sort_unstable();
             candidates.dedup();
@@ -139,6 +163,12 @@ impl Simplified {
             self.fixed_width = self.fixed_width.max(size(&kept));
             alive[t] = false;
             lists[t].clear();
+            scalars.remove(&t);
+            if kept.is_empty() {
+                scalars.insert(u);
+            } else {
+                scalars.remove(&u);
+            }
             lists[u] = kept;
             count -= 1;
             if lists[u].len() <= 2 {
