@@ -156,7 +156,39 @@ fn read_header_bytes<R: std::io::Read>(reader: &mut R) -> std::result::Result<Ve
     reader
         .read_exact(&mut head[start..])
         .map_err(|_| "the file ends inside the header".to_string())?;
+    check_nesting(&head[start..])?;
     Ok(head)
+}
+
+/// The deepest bracket nesting a header may have. numpy writes a flat dict
+/// whose `shape` is a tuple (depth 2); structured dtypes, which this reader
+/// refuses anyway, add a list of tuples.
+const MAX_HEADER_NESTING: usize = 4;
+
+/// Refuses headers nested deeper than [`MAX_HEADER_NESTING`] before the
+/// header parser sees them: the parser of the reader library backtracks
+/// exponentially on deep brackets (a 150-byte header of 60 `[` ran for
+/// minutes; found by fuzzing).
+fn check_nesting(dict: &[u8]) -> std::result::Result<(), String> {
+    let (mut depth, mut quote) = (0usize, None);
+    for &b in dict {
+        match (quote, b) {
+            (Some(q), _) if b == q => quote = None,
+            (Some(_), _) => {}
+            (None, b'\'' | b'"') => quote = Some(b),
+            (None, b'(' | b'[' | b'{') => {
+                depth += 1;
+                if depth > MAX_HEADER_NESTING {
+                    return Err(format!(
+                        "the header nests brackets more than {MAX_HEADER_NESTING} deep; a .npy header is a flat dictionary"
+                    ));
+                }
+            }
+            (None, b')' | b']' | b'}') => depth = depth.saturating_sub(1),
+            _ => {}
+        }
+    }
+    Ok(())
 }
 
 /// The shape in a `.npy` header, when it can be read as a tuple of
@@ -269,6 +301,15 @@ mod tests {
         out.extend_from_slice(&(dict.len() as u16).to_le_bytes());
         out.extend_from_slice(dict.as_bytes());
         out
+    }
+
+    #[test]
+    fn deeply_nested_headers_are_refused_before_parsing() {
+        let deep = header("<f8", "([[[[(2,)]]]],)");
+        let e = parse_npy(&deep, "t.npy").unwrap_err().to_string();
+        assert!(e.contains("nests brackets more than 4 deep"), "{e}");
+        // Brackets inside quotes do not count.
+        assert!(check_nesting(b"{'descr': '[[[[[[', 'shape': (2,), }").is_ok());
     }
 
     #[test]
