@@ -170,13 +170,13 @@ const MAX_HEADER_NESTING: usize = 4;
 /// exponentially on deep brackets (a 150-byte header of 60 `[` ran for
 /// minutes; found by fuzzing).
 fn check_nesting(dict: &[u8]) -> std::result::Result<(), String> {
-    let (mut depth, mut quote) = (0usize, None);
+    // Brackets inside quoted strings count too: an unclosed quote must not
+    // hide the rest of the header, and no dtype this reader accepts has a
+    // bracket in its strings.
+    let mut depth = 0usize;
     for &b in dict {
-        match (quote, b) {
-            (Some(q), _) if b == q => quote = None,
-            (Some(_), _) => {}
-            (None, b'\'' | b'"') => quote = Some(b),
-            (None, b'(' | b'[' | b'{') => {
+        match b {
+            b'(' | b'[' | b'{' => {
                 depth += 1;
                 if depth > MAX_HEADER_NESTING {
                     return Err(format!(
@@ -184,7 +184,7 @@ fn check_nesting(dict: &[u8]) -> std::result::Result<(), String> {
                     ));
                 }
             }
-            (None, b')' | b']' | b'}') => depth = depth.saturating_sub(1),
+            b')' | b']' | b'}' => depth = depth.saturating_sub(1),
             _ => {}
         }
     }
@@ -308,8 +308,9 @@ mod tests {
         let deep = header("<f8", "([[[[(2,)]]]],)");
         let e = parse_npy(&deep, "t.npy").unwrap_err().to_string();
         assert!(e.contains("nests brackets more than 4 deep"), "{e}");
-        // Brackets inside quotes do not count.
-        assert!(check_nesting(b"{'descr': '[[[[[[', 'shape': (2,), }").is_ok());
+        assert!(check_nesting(b"{'descr': '<f8', 'shape': (2, 3), }").is_ok());
+        // An unclosed quote does not hide what follows.
+        assert!(check_nesting(b"{'descr: ((((((").is_err());
     }
 
     #[test]
