@@ -1,7 +1,8 @@
 #!/bin/bash
 # Fuzzes every parser with libFuzzer (cargo fuzz, nightly toolchain) for a
 # given number of minutes per target, one target after another. Not part of
-# CI. Seeds come from demo-data/, the tests and ../shared/corpus; the corpus
+# CI. Seeds come from demo-data/, the tests (tests/bad-inputs/ and saved
+# crashes) and ../shared/corpus; the corpus
 # each run grows is kept under fuzz/corpus/ (not committed).
 #
 # Usage: scripts/fuzz.sh [-j LANES] MINUTES [TARGET...]   (default: every target)
@@ -107,8 +108,20 @@ seed() {
             cp fuzz/seed-run/kickback.data/*.npy "$dir/"
             ;;
     esac
+    # The bad-input corpus of the tests, by format.
+    local bad=tests/bad-inputs
+    case "$target" in
+        native_network) files+=("$bad"/native/*.toml) ;;
+        qasm_circuit) files+=("$bad"/qasm/*.qasm) ;;
+        cnf_formula) files+=("$bad"/cnf/*) ;;
+        tree_file) files+=("$bad"/tree/*.toml) ;;
+        plan_file) files+=("$bad"/plan/*.toml) ;;
+        partial_file) files+=("$bad"/partial/*/*) ;;
+        npy_array) files+=("$bad"/npy/*.npy) ;;
+    esac
     for f in "${files[@]}"; do
-        [ -f "$f" ] && cp "$f" "$dir/" || true
+        # Named after the path: partials of different cases share names.
+        [ -f "$f" ] && cp "$f" "$dir/$(printf '%s' "$f" | tr '/' '_')" || true
     done
     # Inputs that once crashed a target stay in its corpus.
     if [ -d "tests/fuzz-regressions/$target" ]; then
