@@ -37,46 +37,30 @@ fn the_refusal_sits_exactly_at_the_predicted_need() {
         ],
     );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    // The run's own figures: the process holds the inputs once, the output
-    // accumulator, and one slice's peak with one thread.
-    let o = sliceplan(
-        tmp.path(),
-        Some(u64::MAX / 2),
-        &[
+    // One slice with one thread, into directory `out`, plus `extra`.
+    let run = |available: u64, out: &str, extra: &[&str]| {
+        let base = [
             "run",
             "ising.plan.toml",
             "--slices",
             "0..1",
             "--threads",
             "1",
-            "--json",
             "--out",
-            "p",
-        ],
-    );
+            out,
+        ];
+        sliceplan(tmp.path(), Some(available), &[&base[..], extra].concat())
+    };
+    // The run's own figures: the process holds the inputs once, the output
+    // accumulator, and one slice's peak with one thread.
+    let o = run(u64::MAX / 2, "p", &["--json"]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let json: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     let mem = &json["run"]["memory"];
     let need = mem["inputs"].as_u64().unwrap()
         + mem["accumulator"].as_u64().unwrap()
         + mem["predicted_per_slice"].as_u64().unwrap();
-    let args = [
-        "run",
-        "ising.plan.toml",
-        "--slices",
-        "0..1",
-        "--threads",
-        "1",
-        "--force",
-        "--out",
-        "q",
-    ];
-    let without_force = &args[..args.len() - 3];
-    let refused = sliceplan(
-        tmp.path(),
-        Some(need - 1),
-        &[without_force, &["--out", "q"]].concat(),
-    );
+    let refused = run(need - 1, "q", &[]);
     assert_eq!(refused.status.code(), Some(1));
     let err = String::from_utf8_lossy(&refused.stderr);
     assert!(
@@ -87,17 +71,13 @@ fn the_refusal_sits_exactly_at_the_predicted_need() {
         !tmp.path().join("q").exists(),
         "a refused run writes nothing"
     );
-    let fits = sliceplan(
-        tmp.path(),
-        Some(need),
-        &[without_force, &["--out", "q"]].concat(),
-    );
+    let fits = run(need, "q", &[]);
     assert!(
         fits.status.success(),
         "{}",
         String::from_utf8_lossy(&fits.stderr)
     );
-    let forced = sliceplan(tmp.path(), Some(1), &args);
+    let forced = run(1, "r", &["--force"]);
     assert!(
         forced.status.success(),
         "{}",
