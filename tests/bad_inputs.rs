@@ -136,10 +136,7 @@ fn check_case(case: &Case, out: &Outcome) -> Vec<String> {
             first_chars(&out.stdout)
         ));
     }
-    if !out.left_in_tmp.is_empty() {
-        problems.push(format!("left output behind: {:?}", out.left_in_tmp));
-    }
-    problems.extend(check_no_panic(out));
+    problems.extend(check_clean(out));
     problems
 }
 
@@ -158,6 +155,14 @@ fn check_incomplete(case: &Case, out: &Outcome) -> Vec<String> {
             first_chars(&out.stdout)
         ));
     }
+    problems.extend(check_clean(out));
+    problems
+}
+
+/// What every case requires whatever its exit code: nothing written and no
+/// panic.
+fn check_clean(out: &Outcome) -> Vec<String> {
+    let mut problems = Vec::new();
     if !out.left_in_tmp.is_empty() {
         problems.push(format!("left output behind: {:?}", out.left_in_tmp));
     }
