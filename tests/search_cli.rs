@@ -168,3 +168,32 @@ fn partitioning_trials_are_reproducible_across_processes() {
     }
     assert!(files.iter().all(|f| *f == files[0]));
 }
+
+/// Regression: trial 0 could be a partitioning trial dropped at the
+/// deadline, leaving no tree and a panic ("trial 0 always runs and always
+/// yields a tree") under `--time 1ms --threads 1`. Every seed must now give
+/// a valid tree and exit 0.
+#[test]
+fn tiny_time_budget_never_panics() {
+    for seed in 0..12 {
+        let seed = seed.to_string();
+        let (code, stdout, stderr) = sliceplan(&[
+            "plan",
+            "demo-data/ising-6x6.toml",
+            "--time",
+            "1ms",
+            "--threads",
+            "1",
+            "--seed",
+            &seed,
+            "--json",
+        ]);
+        assert_eq!(code, 0, "seed {seed}: {stderr}");
+        assert!(!stderr.contains("panicked"), "seed {seed}: {stderr}");
+        let v: serde_json::Value = serde_json::from_str(&stdout).expect("one JSON object");
+        // 96 tensors (the demo's 6x6 open-boundary lattice: 36 sites and
+        // 2 x 6 x 5 = 60 bonds); any valid tree has a finite cost.
+        assert_eq!(v["network"]["tensors"], 96);
+        assert!(v["tree"]["total_ops_log2"].as_f64().unwrap().is_finite());
+    }
+}

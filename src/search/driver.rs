@@ -120,7 +120,7 @@ pub fn find_tree_with(
     stop: &AtomicBool,
 ) -> Result<SearchResult> {
     opts.validate()?;
-    check_search_memory(net, opts.threads)?;
+    check_search_memory(net, opts.threads, opts.available_memory)?;
     let start = Instant::now();
     let plain = Simplified::new(net, false);
     let mut problems = vec![plain];
@@ -204,10 +204,12 @@ pub fn find_tree_with(
             });
         }
     });
-    let mut best = best
-        .into_inner()
-        .expect("no trial panics")
-        .expect("trial 0 always runs and always yields a tree");
+    let mut best = best.into_inner().expect("no trial panics").ok_or_else(|| {
+        Error::Cannot(
+            "the search found no tree: every enabled finder declined this network; enable greedy"
+                .into(),
+        )
+    })?;
     let interrupted = stop.load(Ordering::SeqCst);
     if opts.finders.refine && !interrupted {
         ctx.final_refine(&mut best, hard_deadline);
@@ -235,8 +237,8 @@ const SEARCH_BYTES_PER_TENSOR: u64 = 5 << 10;
 /// Refuses a search that would not fit in the memory available now, with
 /// a message, rather than be killed by the kernel part way. Each extra
 /// thread holds its own trial's working copy (about half the figure).
-fn check_search_memory(net: &Network, threads: usize) -> Result<()> {
-    let Some(available) = crate::host::available_memory() else {
+fn check_search_memory(net: &Network, threads: usize, available: Option<u64>) -> Result<()> {
+    let Some(available) = available else {
         return Ok(());
     };
     let tensors = net.num_tensors() as u64;
@@ -245,15 +247,14 @@ fn check_search_memory(net: &Network, threads: usize) -> Result<()> {
         t => t,
     } as u64;
     let need = tensors.saturating_mul(SEARCH_BYTES_PER_TENSOR / 2 * (workers + 1));
-    if need <= available.bytes {
+    if need <= available {
         return Ok(());
     }
     Err(Error::Cannot(format!(
-        "searching a network of {tensors} tensors with {workers} thread(s) needs about {} (an estimate: {:.1} KiB per tensor per thread, measured on large lattices), but this machine has {} available ({}); use fewer --threads, run on a larger machine, or give a tree file with --tree",
-        crate::report::bytes_human(need as f64),
+        "searching a network of {tensors} tensors with {workers} thread(s) needs about {} (an estimate: {:.1} KiB per tensor per thread, measured on large lattices), but only {} is available; use fewer threads, run on a larger machine, or give a tree file",
+        crate::cost::bytes::bytes_human(need as f64),
         SEARCH_BYTES_PER_TENSOR as f64 / 2.0 / 1024.0,
-        crate::report::bytes_human(available.bytes as f64),
-        available.source
+        crate::cost::bytes::bytes_human(available as f64),
     )))
 }
 
@@ -301,16 +302,23 @@ impl Ctx<'_> {
         let first_of_large = i == 0 && p.len() > LARGE_PROBLEM && f.greedy;
         let use_partition =
             f.partition && p.len() >= 24 && !first_of_large && (!f.greedy || rng.random_bool(0.5));
-        let (mut merges, mut name) = if use_partition {
+        let partitioned = if use_partition {
             let params = PartitionParams {
                 deadline: self.deadline,
                 ..PartitionParams::sample(&mut rng, goal)
             };
-            // Past the deadline the trial is dropped, not finished.
-            (
-                partition_tree_until(p, &params, &mut rng)?,
-                "partition".to_string(),
-            )
+            // Past the deadline the trial is dropped, not finished; trial 0
+            // must yield a tree, so it falls back to greedy below.
+            match partition_tree_until(p, &params, &mut rng) {
+                Some(m) => Some(m),
+                None if i > 0 => return None,
+                None => None,
+            }
+        } else {
+            None
+        };
+        let (mut merges, mut name) = if let Some(m) = partitioned {
+            (m, "partition".to_string())
         } else if f.greedy || f.partition {
             let params = if i == 0 {
                 GreedyParams::default()
