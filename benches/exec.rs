@@ -15,6 +15,7 @@ use faer::{Accum, MatMut, MatRef, Par};
 use num_complex::{Complex32, Complex64};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
+use sliceplan::cost::bytes::bytes_human;
 use sliceplan::exec::dense::{row_major_strides, View};
 use sliceplan::exec::matmul::FaerMatMul;
 use sliceplan::exec::memory::{max_resident_bytes, resident_bytes, Meter};
@@ -23,7 +24,6 @@ use sliceplan::exec::scalar::Scalar;
 use sliceplan::exec::{chunk_jobs, run_plan, RunOptions, Selection};
 use sliceplan::network::{Dtype, Fill, Network, NetworkBuilder, Values};
 use sliceplan::plan::Plan;
-use sliceplan::report::bytes_human;
 use sliceplan::tree::Tree;
 
 fn main() {

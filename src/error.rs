@@ -68,6 +68,17 @@ pub enum Error {
     /// A bad command-line value or combination of options (exit code 2).
     #[error("{0}")]
     Usage(String),
+    /// A bad value of one named option (exit code 2). `field` is the
+    /// option's name in the library's option structs (for instance
+    /// `"time"` of the search options); the binary prints the flag that
+    /// sets it, so library messages never speak in flags.
+    #[error("{field}: {message}")]
+    Invalid {
+        /// The option's field name.
+        field: &'static str,
+        /// What is wrong and what would be valid.
+        message: String,
+    },
     /// A file could not be read or written.
     #[error("{path}: {action}: {source}")]
     Io {
@@ -103,6 +114,14 @@ impl Error {
         Error::input(Location::line(source, line), message)
     }
 
+    /// A bad value of the option `field` (see [`Error::Invalid`]).
+    pub fn invalid(field: &'static str, message: impl Into<String>) -> Self {
+        Error::Invalid {
+            field,
+            message: message.into(),
+        }
+    }
+
     /// A usage error.
     pub fn usage(message: impl Into<String>) -> Self {
         Error::Usage(message.into())
@@ -129,7 +148,7 @@ impl Error {
     /// The process exit code this error maps to.
     pub fn exit_code(&self) -> u8 {
         match self {
-            Error::Input { .. } | Error::Usage(_) => EXIT_BAD_INPUT,
+            Error::Input { .. } | Error::Usage(_) | Error::Invalid { .. } => EXIT_BAD_INPUT,
             Error::Io { action, .. } if *action == "cannot read" => EXIT_BAD_INPUT,
             Error::Io { .. } | Error::Cannot(_) => EXIT_CANNOT,
         }

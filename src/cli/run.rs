@@ -10,6 +10,7 @@ use serde::Serialize;
 
 use super::plan_files::open_plan;
 use super::{to_json, Outcome};
+use crate::cost::bytes::bytes_human;
 use crate::error::{Error, Result, EXIT_CANNOT};
 use crate::exec::partial::ChunkId;
 use crate::exec::report::{run_text, verify_text, IncompleteReport, ResultReport};
@@ -20,7 +21,6 @@ use crate::exec::{
 };
 use crate::network::Network;
 use crate::plan::Plan;
-use crate::report::bytes_human;
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan run grid.plan.toml --all

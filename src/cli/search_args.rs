@@ -53,11 +53,18 @@ impl SearchArgs {
             time,
             seed: self.seed,
             threads: self.threads,
+            available_memory: crate::host::available_memory().map(|a| a.bytes),
             ..SearchOptions::trials(1, self.seed)
         };
         search.validate().map_err(|e| match e {
-            Error::Usage(m) if m.contains("threads") => Error::usage(format!("--threads: {m}")),
-            Error::Usage(m) => Error::usage(format!("--trials/--time: {m}")),
+            Error::Invalid { field, message } => {
+                let flag = match field {
+                    "threads" => "--threads",
+                    "trials" => "--trials",
+                    _ => "--trials/--time",
+                };
+                Error::usage(format!("{flag}: {message}"))
+            }
             other => other,
         })?;
         Ok(search)

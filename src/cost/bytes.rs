@@ -64,9 +64,34 @@ pub fn parse_bytes(text: &str) -> Result<u64, String> {
     u64::try_from(bytes).map_err(|_| too_big())
 }
 
+/// Formats bytes in binary units, e.g. `1.50 GiB`.
+pub fn bytes_human(bytes: f64) -> String {
+    const UNITS: [&str; 7] = ["B", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB"];
+    if !bytes.is_finite() || bytes >= 1024f64.powi(7) {
+        return format!("2^{:.2} B", bytes.log2());
+    }
+    let mut v = bytes;
+    let mut u = 0;
+    while v >= 1024.0 && u < UNITS.len() - 1 {
+        v /= 1024.0;
+        u += 1;
+    }
+    if u == 0 {
+        format!("{v:.0} B")
+    } else {
+        format!("{v:.2} {}", UNITS[u])
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn human_units() {
+        assert_eq!(bytes_human(1536.0 * 1024.0 * 1024.0), "1.50 GiB");
+        assert_eq!(bytes_human(100.0), "100 B");
+    }
 
     #[test]
     fn units_follow_iec_80000_13() {

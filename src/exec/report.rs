@@ -9,8 +9,8 @@ use serde::Serialize;
 use super::gather::{Gathered, Incomplete};
 use super::runner::RunReport;
 use super::verify::Verification;
+use crate::cost::bytes::bytes_human;
 use crate::network::Dtype;
-use crate::report::bytes_human;
 
 /// A complex number for JSON.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]

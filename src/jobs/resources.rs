@@ -17,12 +17,12 @@
 
 use serde::{Deserialize, Serialize};
 
+use crate::cost::bytes::bytes_human;
 use crate::cost::bytes::parse_bytes;
 use crate::cost::memory::{inputs_bytes, output_bytes, MemoryNeed};
 use crate::error::{Error, Result};
 use crate::network::Network;
 use crate::plan::Plan;
-use crate::report::bytes_human;
 
 /// Percent added to the process's predicted need.
 pub const MEM_MARGIN_PERCENT: u64 = 10;

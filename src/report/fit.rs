@@ -5,7 +5,8 @@ use serde::Serialize;
 
 use super::inspect::TreeReport;
 use super::plan::SearchReport;
-use super::{bytes_human, group_decimal, log2_str, Table};
+use super::{group_decimal, log2_str, Table};
+use crate::cost::bytes::bytes_human;
 use crate::cost::machine::{Estimate, ESTIMATE_METHOD};
 use crate::cost::memory::MemoryNeed;
 use crate::network::{Dtype, Network, Summary};

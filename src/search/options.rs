@@ -52,6 +52,9 @@ pub struct SearchOptions {
     pub finders: Finders,
     /// Simplify (absorb small tensors) for some trials.
     pub simplify: bool,
+    /// Bytes of memory the search may use (the caller reads the host);
+    /// `None`: no check.
+    pub available_memory: Option<u64>,
 }
 
 impl SearchOptions {
@@ -65,6 +68,7 @@ impl SearchOptions {
             threads: 0,
             finders: Finders::default(),
             simplify: true,
+            available_memory: None,
         }
     }
 
@@ -80,17 +84,26 @@ impl SearchOptions {
     /// Checks the options before any work.
     pub fn validate(&self) -> Result<()> {
         match (self.trials, self.time) {
-            (None, None) => Err(Error::usage(
-                "give a trial count or a time budget (e.g. --trials 100 or --time 10s)",
+            (None, None) => Err(Error::invalid(
+                "time",
+                "give a trial count or a time budget (e.g. 100 trials or 10s)",
             )),
-            (Some(0), _) => Err(Error::usage("the trial count must be at least 1")),
-            (_, Some(t)) if t.is_zero() => Err(Error::usage("the time budget must be positive")),
-            _ if self.threads > MAX_THREADS => Err(Error::usage(format!(
-                "{} threads is too many; give at most {MAX_THREADS} (0 means one per core)",
-                self.threads
-            ))),
+            (Some(0), _) => Err(Error::invalid(
+                "trials",
+                "the trial count must be at least 1",
+            )),
+            (_, Some(t)) if t.is_zero() => {
+                Err(Error::invalid("time", "the time budget must be positive"))
+            }
+            _ if self.threads > MAX_THREADS => Err(Error::invalid(
+                "threads",
+                format!(
+                    "{} threads is too many; give at most {MAX_THREADS} (0 means one per core)",
+                    self.threads
+                ),
+            )),
             _ if !(self.finders.greedy || self.finders.partition || self.finders.exact) => {
-                Err(Error::usage("enable at least one finder"))
+                Err(Error::invalid("finders", "enable at least one finder"))
             }
             _ => Ok(()),
         }
