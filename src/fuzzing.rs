@@ -150,9 +150,9 @@ pub fn plan_file(data: &[u8]) {
 
 /// Partial-result files.
 pub fn partial_file(data: &[u8]) {
-    if let Ok(p) = crate::exec::partial::decode(data) {
+    if let Ok(p) = crate::partial::decode(data) {
         let _ = p.header.slices();
-        let _ = crate::exec::partial::encode(&p);
+        let _ = crate::partial::encode(&p);
     }
 }
 

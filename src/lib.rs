@@ -8,6 +8,7 @@
 
 #![warn(missing_docs)]
 
+pub mod chunk;
 pub mod cli;
 pub mod cost;
 pub mod error;
@@ -19,9 +20,11 @@ pub mod generate;
 pub mod host;
 pub mod io;
 pub mod jobs;
+pub mod lanes;
 pub mod network;
 pub mod npy;
 pub mod num;
+pub mod partial;
 pub mod plan;
 pub mod report;
 pub mod search;

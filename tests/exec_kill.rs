@@ -239,7 +239,7 @@ fn random_kills_never_leave_a_broken_plan_or_partial() {
             let path = entry.unwrap().path();
             let name = path.file_name().unwrap().to_string_lossy().into_owned();
             if name.ends_with(".partial") {
-                let p = sliceplan::exec::partial::read_partial(&path)
+                let p = sliceplan::partial::read_partial(&path)
                     .unwrap_or_else(|e| panic!("{name} is broken after a kill: {e}"));
                 assert_eq!(p.header.plan_fingerprint, plan.fingerprint());
             } else {

@@ -10,9 +10,9 @@ use serde::Serialize;
 
 use super::plan_files::open_plan;
 use super::{to_json, Outcome};
+use crate::chunk::ChunkId;
 use crate::cost::bytes::bytes_human;
 use crate::error::{Error, Result, EXIT_CANNOT};
-use crate::exec::partial::ChunkId;
 use crate::exec::report::{run_text, verify_text, IncompleteReport, ResultReport};
 use crate::exec::runner::{predicted_process_bytes, slices_at_once};
 use crate::exec::verify::{compare, contract_whole, Verification};

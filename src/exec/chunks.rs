@@ -4,9 +4,8 @@
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 
-use super::partial::{chunk_file_name, range_file_name, ChunkId};
+use crate::chunk::{chunk_file_name, chunk_range, range_file_name, ChunkId};
 use crate::error::{Error, Result};
-use crate::jobs::chunk_range;
 
 /// Which slices to run.
 #[derive(Debug, Clone, PartialEq, Eq)]

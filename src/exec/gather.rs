@@ -13,11 +13,11 @@ use serde::Serialize;
 
 use super::accumulate::Accumulator;
 use super::output::OutputLayout;
-use super::partial::{list_partials, read_partial, Partial, PartialHeader};
 use super::scalar::lanes_per_element;
+use crate::chunk::chunk_range;
 use crate::error::{Error, Result};
-use crate::jobs::chunk_range;
 use crate::network::{Dtype, Network};
+use crate::partial::{list_partials, read_partial, Partial, PartialHeader};
 use crate::plan::Plan;
 
 /// The summed output of a plan.

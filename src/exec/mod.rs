@@ -7,7 +7,7 @@
 //! ([`pairwise::contract`]) while a [`memory::Meter`] counts every byte it
 //! holds against the cost model's prediction. A chunk's slices are summed
 //! with compensated summation and written as one checksummed
-//! [`partial`] file; [`gather::gather`] checks coverage and sums the
+//! [`crate::partial`] file; [`gather::gather`] checks coverage and sums the
 //! partials into the result, which [`npy_out`] writes as `.npy`.
 
 pub mod accumulate;
@@ -19,7 +19,6 @@ pub mod memory;
 pub mod npy_out;
 pub mod output;
 pub mod pairwise;
-pub mod partial;
 pub mod permute;
 pub mod report;
 pub mod runner;

@@ -29,13 +29,13 @@ use super::matmul::{FaerMatMul, MatMul};
 use super::memory::{max_resident_bytes, Meter};
 use super::output::OutputLayout;
 use super::pairwise::Context;
-use super::partial::{read_partial, write_partial, Partial, PartialHeader};
 use super::scalar::{lanes_per_element, Scalar};
 use super::slice::Prepared;
 use crate::cost::{NodeSets, PeakModel};
 use crate::error::{Error, Result};
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::{product, Count};
+use crate::partial::{read_partial, write_partial, Partial, PartialHeader};
 use crate::plan::Plan;
 use crate::tree::Tree;
 

@@ -78,7 +78,7 @@ pub struct JobStatus {
 /// chunk's slices. Anything else (absent, damaged, another plan's) is
 /// missing and goes into the resubmission.
 pub fn partial_done(path: &Path, fingerprint: &str, chunk: &ChunkEntry) -> bool {
-    match crate::exec::partial::read_partial(path) {
+    match crate::partial::read_partial(path) {
         Ok(p) => {
             p.header.plan_fingerprint == fingerprint
                 && p.header.slices() == (chunk.first_slice..chunk.end_slice)

@@ -21,28 +21,17 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
-use super::scalar::{decode_lanes, encode_lanes, lanes_per_element};
+use crate::chunk::{ChunkId, PARTIAL_EXTENSION};
 use crate::error::Result;
+use crate::lanes::{decode_lanes, encode_lanes, lanes_per_element};
 use crate::network::Dtype;
 
 /// First line's first word.
 pub const PARTIAL_MAGIC: &str = "sliceplan-partial";
 /// The newest partial version this build reads and writes.
 pub const PARTIAL_VERSION: u32 = 1;
-/// File extension of partials.
-pub const PARTIAL_EXTENSION: &str = "partial";
-
 const TRAILER_TAG: &[u8] = b"sha256:";
 const TRAILER_LEN: usize = 7 + 64 + 1;
-
-/// Chunk `index` of `of` (see [`crate::jobs::chunk_range`]).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
-pub struct ChunkId {
-    /// The chunk's number, from 0.
-    pub index: u64,
-    /// How many chunks the slices were split into.
-    pub of: u64,
-}
 
 /// The header of a partial.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
@@ -100,17 +89,6 @@ impl Partial {
         let n = self.lanes.len() / self.header.blocks.len().max(1);
         &self.lanes[i * n..(i + 1) * n]
     }
-}
-
-/// The file name of a chunk's partial, e.g. `chunk-3-of-10.partial`: the
-/// one naming rule the job scripts and `jobs --status` share.
-pub fn chunk_file_name(chunk: ChunkId) -> String {
-    crate::jobs::partial_file_name(chunk.index, chunk.of)
-}
-
-/// The file name of a partial for an explicit slice range, e.g. `slices-20-30.partial`.
-pub fn range_file_name(slices: &Range<u64>) -> String {
-    format!("slices-{}-{}.{PARTIAL_EXTENSION}", slices.start, slices.end)
 }
 
 /// Encodes a partial into its file bytes.
@@ -253,14 +231,5 @@ mod tests {
             assert!(decode(&bad).is_err(), "flipping byte {i} went unnoticed");
         }
         assert!(decode(&bytes[..bytes.len() - 1]).is_err());
-    }
-
-    #[test]
-    fn chunk_and_range_names() {
-        assert_eq!(
-            chunk_file_name(ChunkId { index: 3, of: 10 }),
-            "chunk-3-of-10.partial"
-        );
-        assert_eq!(range_file_name(&(20..30)), "slices-20-30.partial");
     }
 }
