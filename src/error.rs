@@ -90,7 +90,9 @@ pub enum Error {
         #[source]
         source: std::io::Error,
     },
-    /// The job cannot be done as asked (exit code 1).
+    /// The job cannot be done as asked (exit code 1). A message that
+    /// points to an option writes "the `field` option"; the binary puts the
+    /// flag there.
     #[error("{0}")]
     Cannot(String),
 }

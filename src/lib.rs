@@ -3,13 +3,14 @@
 //! Data flows one way (DESIGN §4): input formats build a validated
 //! [`network::Network`]; a [`tree::Tree`] says how to contract it; [`cost`]
 //! prices the tree (total ops, width, op width, peak, height), whole or per
-//! slice; [`report`] renders the results; [`cli`] is the thin glue the
-//! `sliceplan` binary calls.
+//! slice; [`report`] renders the results; [`command`] holds one function per
+//! command, which the `sliceplan` binary (its own `cli` module, not part of
+//! this library) calls.
 
 #![warn(missing_docs)]
 
 pub mod chunk;
-pub mod cli;
+pub mod command;
 pub mod cost;
 pub mod error;
 pub mod exec;

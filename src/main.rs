@@ -1,6 +1,8 @@
 //! The `sliceplan` binary: parse the command line, run the command, print its
 //! output, map errors to exit codes (0 ok, 1 cannot be done as asked, 2 bad
-//! input or usage).
+//! input or usage, 3 fits but impractical).
+
+mod cli;
 
 use std::io::Write;
 use std::process::ExitCode;
@@ -8,8 +10,8 @@ use std::process::ExitCode;
 use clap::Parser;
 
 fn main() -> ExitCode {
-    let cli = sliceplan::cli::Cli::parse();
-    match sliceplan::cli::run(cli) {
+    let args = cli::Cli::parse();
+    match cli::run(args) {
         Ok(outcome) => {
             let mut out = std::io::stdout().lock();
             // A closed pipe (e.g. `| head`) is not an error worth a panic.
@@ -19,11 +21,10 @@ fn main() -> ExitCode {
             ExitCode::from(outcome.code)
         }
         Err(err) => {
-            let code = err.exit_code();
             // The library's message already carries the OS error of an I/O
             // failure; printing the source chain too would repeat it.
-            eprintln!("sliceplan: {err}");
-            ExitCode::from(code)
+            eprintln!("sliceplan: {}", cli::message(&err));
+            ExitCode::from(err.exit_code())
         }
     }
 }

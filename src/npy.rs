@@ -369,3 +369,58 @@ mod tests {
         assert_eq!(c, vec![1., 2., 3., 4., 5., 6.]);
     }
 }
+
+/// What a `.npy` header says, checked against the file's size.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct NpyHeader {
+    /// The array's shape.
+    pub shape: Vec<u64>,
+    /// The element type as numpy writes it, e.g. `<f8`.
+    pub descr: String,
+    /// Bytes of data the header describes.
+    pub data_bytes: u64,
+}
+
+/// Reads and checks the header of a `.npy` file without reading its data:
+/// the preamble, the header's dictionary, a supported element type, and a
+/// file long enough for the data the header describes (a truncated file is
+/// refused here rather than when a run reads it).
+pub fn read_npy_header(path: &Path) -> Result<NpyHeader> {
+    let source = path.display().to_string();
+    let bad = |m: String| Error::in_source(&source, m);
+    let mut file = std::fs::File::open(path).map_err(|e| Error::read(path, e))?;
+    let len = file.metadata().map_err(|e| Error::read(path, e))?.len();
+    let head =
+        read_header_bytes(&mut file).map_err(|m| bad(format!("not a valid .npy file: {m}")))?;
+    let header_len = head.len() as u64;
+    let npy = NpyFile::new(std::io::Cursor::new(head))
+        .map_err(|e| bad(format!("not a valid .npy file: {e}")))?;
+    let shape = npy.shape().to_vec();
+    let descr = npy.dtype().descr();
+    let supported = matches!(
+        npy.dtype(),
+        npyz::DType::Plain(t) if matches!(t.type_char(), TypeChar::Float | TypeChar::Complex | TypeChar::Int | TypeChar::Uint | TypeChar::Bool)
+    );
+    if !supported {
+        return Err(bad(format!(
+            "unsupported .npy element type {descr}; use float32, float64, complex64 or complex128"
+        )));
+    }
+    let data_bytes = shape
+        .iter()
+        .try_fold(1u64, |acc, &d| acc.checked_mul(d))
+        .zip(npy.dtype().num_bytes())
+        .and_then(|(n, b)| n.checked_mul(b as u64));
+    match data_bytes {
+        Some(b) if header_len.checked_add(b).is_some_and(|end| end <= len) => Ok(NpyHeader {
+            shape,
+            descr,
+            data_bytes: b,
+        }),
+        _ => Err(bad(format!(
+            "the header's shape {shape:?} describes {} bytes of data, but the file holds {} bytes after its header (is it truncated?)",
+            data_bytes.map_or_else(|| "more than 2^64".to_string(), |b| b.to_string()),
+            len.saturating_sub(header_len)
+        ))),
+    }
+}

@@ -99,7 +99,7 @@ fn bad_values_exit_2_before_anything_is_written() {
     let out = tmp.path().join("job");
     for (extra, says) in [
         (&["--chunks", "17"][..], "only 16 slice(s); give 1 to 16"),
-        (&["--chunks", "0"][..], "--chunks must be at least 1"),
+        (&["--chunks", "0"][..], "--chunks: must be at least 1"),
         (&["--mem", "lots"][..], "--mem: 'lots' is not a size"),
         // The inputs alone are 5,120 B > 4 KiB = 4,096 B (jobs_snapshots.rs).
         (&["--mem", "4KiB"][..], "below what one task needs"),
@@ -114,11 +114,11 @@ fn bad_values_exit_2_before_anything_is_written() {
         ),
         (
             &["--max-running", "0"][..],
-            "--max-running must be at least 1",
+            "--max-running: must be at least 1",
         ),
         (
             &["--cpus-per-task", "0"][..],
-            "--cpus-per-task must be at least 1",
+            "--cpus-per-task: must be at least 1",
         ),
     ] {
         let (code, _, err) = jobs(&plan, &out, extra);

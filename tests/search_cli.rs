@@ -102,15 +102,27 @@ fn same_seed_same_output_on_the_command_line() {
 
 #[test]
 fn bad_options_exit_2_with_a_hint() {
-    let cases: [(&[&str], &str); 5] = [
+    let cases: [(&[&str], &str); 7] = [
         (
             &["--threads", "100000"],
             "--threads: 100000 threads is too many",
         ),
-        (&["--objective", "fast"], "valid: ops, peak, width"),
+        // clap lists the values of the objective enum.
+        (
+            &["--objective", "fast"],
+            "[possible values: ops, peak, width",
+        ),
         (&["--time", "soon"], "write e.g. 10s"),
         (&["--trials", "0"], "at least 1"),
-        (&["--objective", "mix:1,2"], "three weights"),
+        (&["--objective", "mix", "--weights", "1,2"], "three weights"),
+        (
+            &["--objective", "mix"],
+            "--weights: --objective mix needs three weights",
+        ),
+        (
+            &["--max-width", "3"],
+            "--max-width: goes with --objective ops-within",
+        ),
     ];
     for (extra, hint) in cases {
         let mut args = vec!["plan"];

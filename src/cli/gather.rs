@@ -4,15 +4,13 @@ use std::path::PathBuf;
 
 use clap::Args;
 
-use super::plan_files::open_plan;
-use super::{to_json, Outcome};
-use crate::error::{Result, EXIT_CANNOT};
-use crate::exec::report::{IncompleteReport, ResultReport};
-use crate::exec::{gather, GatherOutcome};
+use super::{Outcome, EXIT_CANNOT};
+use sliceplan::command::gather::{gather, GatherOptions, GatherOutcome};
+use sliceplan::error::Result;
 
 pub(super) const EXAMPLES: &str = "Examples:
-  sliceplan gather grid.plan.toml grid.partials
-  sliceplan gather grid.plan.toml parts/ -o grid.npy --json";
+  sliceplan gather ising.plan.toml ising.partials
+  sliceplan gather ising.plan.toml parts/ -o ising.npy --json";
 
 /// Arguments of `gather`.
 #[derive(Debug, Args)]
@@ -38,45 +36,22 @@ pub struct GatherArgs {
     json: bool,
 }
 
-/// When `dir` is the `partials` folder of a job directory written by
-/// `sliceplan jobs`, refreshes that directory's `resubmit.sbatch` with
-/// exactly the missing chunks and returns its path.
-fn resubmission(dir: &std::path::Path) -> Result<Option<PathBuf>> {
-    let Some(job_dir) = dir.parent() else {
-        return Ok(None);
-    };
-    if !job_dir.join(crate::jobs::MANIFEST_FILE).is_file() {
-        return Ok(None);
+/// The text of a gathered result or of what is missing.
+pub(super) fn gathered_text(g: &GatherOutcome) -> String {
+    match g {
+        GatherOutcome::Complete { report, .. } => report.to_text(),
+        GatherOutcome::Incomplete(r) => r.to_text(),
     }
-    let status = crate::jobs::job_status(job_dir)?;
-    crate::jobs::refresh_resubmit(job_dir, &status)
 }
 
 pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
-    let (plan, net) = open_plan(&args.plan, args.network.as_deref())?;
-    match gather(&plan, &net, &args.dir)? {
-        GatherOutcome::Complete(g) => {
-            if let Some(path) = &args.output {
-                crate::exec::npy_out::write_npy(path, g.dtype, &g.shape, &g.lanes)?;
-            }
-            let r = ResultReport::new(&g, args.output.clone());
-            Ok(Outcome::ok(if args.json {
-                to_json(&r)
-            } else {
-                r.to_text()
-            }))
-        }
-        GatherOutcome::Incomplete(i) => {
-            let mut r = IncompleteReport::new(
-                &i,
-                &args.plan.display().to_string(),
-                &args.dir.display().to_string(),
-            );
-            r.resubmit_script = resubmission(&args.dir)?;
-            Ok(Outcome {
-                stdout: if args.json { to_json(&r) } else { r.to_text() },
-                code: EXIT_CANNOT,
-            })
-        }
-    }
+    let opts = GatherOptions {
+        plan: args.plan,
+        dir: args.dir,
+        output: args.output,
+        network: args.network,
+    };
+    let g = gather(&opts)?;
+    let code = if g.complete() { 0 } else { EXIT_CANNOT };
+    Ok(Outcome::render(args.json, &g, gathered_text(&g), code))
 }

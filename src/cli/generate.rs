@@ -2,18 +2,16 @@
 
 use std::path::PathBuf;
 
-use clap::{Args, Subcommand};
+use clap::{Args, Subcommand, ValueEnum};
 
-use super::import::{check_output, WriteReport};
+use super::args::{amplitude, ProblemArg};
 use super::Outcome;
-use crate::error::{Error, Result};
-use crate::formats::circuit::{amplitude_network, AmplitudeSpec, OpenQubits};
-use crate::formats::graph::{graph_network, Graph, GraphProblem};
-use crate::formats::write::{write_native, WriteOptions, DEFAULT_INLINE_MAX};
-use crate::generate::circuit::brickwork_circuit;
-use crate::generate::ising::{ising_lattice, IsingParams};
-use crate::generate::values::{fill, Filler};
-use crate::network::Network;
+use sliceplan::command::generate::{generate, Family, GenerateOptions, GraphValues, LatticeValues};
+use sliceplan::error::{Error, Result};
+use sliceplan::formats::graph::GraphProblem;
+use sliceplan::formats::write::DEFAULT_INLINE_MAX;
+use sliceplan::generate::ising::IsingParams;
+use sliceplan::generate::values::Filler;
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan generate lattice --shape 6x6 --periodic --model ising --beta 0.44 -o ising.toml
@@ -27,7 +25,7 @@ pub(super) const EXAMPLES: &str = "Examples:
 pub struct GenerateArgs {
     /// The family to generate.
     #[command(subcommand)]
-    family: Family,
+    family: FamilyArgs,
 }
 
 /// Where to write, shared by every family.
@@ -46,8 +44,21 @@ struct Output {
     json: bool,
 }
 
+/// Tensor values of a generated network.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+enum ModelArg {
+    /// Reproducible random complex values (--seed).
+    Random,
+    /// Every element 1.
+    Ones,
+    /// No values (structure only: enough for planning).
+    None,
+    /// The Ising model (lattices only; --beta, --coupling, --field).
+    Ising,
+}
+
 #[derive(Debug, Subcommand)]
-enum Family {
+enum FamilyArgs {
     /// A 1- to 4-dimensional lattice, one tensor per site, one index per bond.
     Lattice {
         /// Side lengths, e.g. 6x6 or 4x4x4.
@@ -59,9 +70,9 @@ enum Family {
         /// Bond dimension (2 for the Ising model).
         #[arg(long, value_name = "D", default_value_t = 2)]
         bond: u64,
-        /// Tensor values: random (seeded), ones, none, or ising.
+        /// Tensor values.
         #[arg(long, value_name = "MODEL", default_value = "random")]
-        model: String,
+        model: ModelArg,
         /// Seed for random values.
         #[arg(long, default_value_t = 0)]
         seed: u64,
@@ -91,12 +102,12 @@ enum Family {
         /// Bond dimension of the edges (without --problem).
         #[arg(long, value_name = "D", default_value_t = 2)]
         bond: u64,
-        /// Tensor values without --problem: random, ones, none.
+        /// Tensor values without --problem (default random).
         #[arg(long, value_name = "MODEL")]
-        model: Option<String>,
-        /// Count on the graph instead: independent-sets, colorings, perfect-matchings, ising.
+        model: Option<ModelArg>,
+        /// Count on the graph instead.
         #[arg(long)]
-        problem: Option<String>,
+        problem: Option<ProblemArg>,
         /// Colours for --problem colorings.
         #[arg(long)]
         colors: Option<u64>,
@@ -138,11 +149,11 @@ enum Family {
     /// A chain of matrices with the given dimensions.
     MatrixChain {
         /// Dimensions d0,d1,...: matrix k is d(k-1) x d(k).
-        #[arg(long, value_name = "LIST")]
-        dims: String,
-        /// Tensor values: random (seeded), ones, none.
+        #[arg(long, value_name = "LIST", value_delimiter = ',', required = true)]
+        dims: Vec<u64>,
+        /// Tensor values.
         #[arg(long, value_name = "MODEL", default_value = "random")]
-        model: String,
+        model: ModelArg,
         /// Seed for random values.
         #[arg(long, default_value_t = 0)]
         seed: u64,
@@ -151,31 +162,34 @@ enum Family {
     },
 }
 
-fn filler(model: &str, seed: u64) -> Result<Filler> {
+/// The filler of a non-Ising model.
+fn filler(model: ModelArg, seed: u64) -> Result<Filler> {
     match model {
-        "random" => Ok(Filler::Random { seed }),
-        "ones" => Ok(Filler::Ones),
-        "none" => Ok(Filler::None),
-        other => Err(Error::usage(format!(
-            "--model: unknown model '{other}'; valid: random, ones, none"
-        ))),
+        ModelArg::Random => Ok(Filler::Random { seed }),
+        ModelArg::Ones => Ok(Filler::Ones),
+        ModelArg::None => Ok(Filler::None),
+        ModelArg::Ising => Err(Error::invalid(
+            "model",
+            "ising is a lattice model; on a graph use --problem ising",
+        )),
     }
 }
 
-fn parse_list<T: std::str::FromStr>(text: &str, sep: char, what: &str) -> Result<Vec<T>> {
-    text.split(sep)
+/// Parses `6x6` or `4x4x4`.
+fn parse_shape(text: &str) -> Result<Vec<usize>> {
+    text.split('x')
         .map(|s| {
-            s.trim()
-                .parse()
-                .map_err(|_| Error::usage(format!("{what}: '{s}' is not a whole number")))
+            s.trim().parse().map_err(|_| {
+                Error::invalid("shape", format!("'{s}' in '{text}' is not a whole number"))
+            })
         })
         .collect()
 }
 
-/// Builds the requested network (validating the options first).
-fn build(family: &Family) -> Result<Network> {
-    match family {
-        Family::Lattice {
+/// The library's family from the arguments (checked, no file touched).
+fn family(args: &FamilyArgs) -> Result<(Family, &Output)> {
+    Ok(match args {
+        FamilyArgs::Lattice {
             shape,
             periodic,
             bond,
@@ -184,30 +198,39 @@ fn build(family: &Family) -> Result<Network> {
             beta,
             coupling,
             field,
-            ..
+            out,
         } => {
-            let shape: Vec<usize> = parse_list(shape, 'x', "--shape")?;
-            if model == "ising" {
+            let values = if *model == ModelArg::Ising {
                 if *bond != 2 {
-                    return Err(Error::usage("--model ising needs --bond 2"));
+                    return Err(Error::invalid("bond", "the ising model needs bond 2"));
                 }
-                let beta = beta.ok_or_else(|| Error::usage("--model ising needs --beta"))?;
-                let p = IsingParams {
-                    beta,
+                LatticeValues::Ising(IsingParams {
+                    beta: beta.ok_or_else(|| {
+                        Error::invalid("beta", "the ising model needs the inverse temperature")
+                    })?,
                     coupling: coupling.unwrap_or(1.0),
                     field: field.unwrap_or(0.0),
-                };
-                return ising_lattice(&shape, *periodic, p);
-            }
-            if beta.is_some() || coupling.is_some() || field.is_some() {
-                return Err(Error::usage(
-                    "--beta, --coupling and --field go with --model ising",
-                ));
-            }
-            let f = filler(model, *seed)?;
-            Ok(fill(crate::generate::lattice(&shape, *bond, *periodic)?, f))
+                })
+            } else {
+                if beta.is_some() || coupling.is_some() || field.is_some() {
+                    return Err(Error::invalid(
+                        "beta",
+                        "--beta, --coupling and --field go with --model ising",
+                    ));
+                }
+                LatticeValues::Fill {
+                    filler: filler(*model, *seed)?,
+                    bond: *bond,
+                }
+            };
+            let family = Family::Lattice {
+                shape: parse_shape(shape)?,
+                periodic: *periodic,
+                values,
+            };
+            (family, out)
         }
-        Family::RegularGraph {
+        FamilyArgs::RegularGraph {
             vertices,
             degree,
             seed,
@@ -218,73 +241,78 @@ fn build(family: &Family) -> Result<Network> {
             beta,
             coupling,
             field,
-            ..
+            out,
         } => {
-            let problem =
-                GraphProblem::from_flags(problem.as_deref(), *colors, *beta, *coupling, *field)?;
-            let edges = crate::generate::random_regular_graph(*vertices, *degree, *seed)?;
-            match problem {
+            let problem = GraphProblem::from_parts(
+                problem.map(Into::into),
+                *colors,
+                *beta,
+                *coupling,
+                *field,
+            )?;
+            let values = match problem {
                 Some(p) => {
                     if model.is_some() {
-                        return Err(Error::usage("--model and --problem exclude each other"));
+                        return Err(Error::invalid(
+                            "model",
+                            "--model and --problem exclude each other",
+                        ));
                     }
-                    let g = Graph::from_edges(*vertices, &edges);
-                    let name = format!(
-                        "random {degree}-regular graph on {vertices} vertices, seed {seed},"
-                    );
-                    graph_network(&g, &p, "regular-graph", &name)
+                    GraphValues::Problem(p)
                 }
-                None => {
-                    let f = filler(model.as_deref().unwrap_or("random"), *seed)?;
-                    Ok(fill(
-                        crate::generate::graph_network(*vertices, &edges, *bond)?,
-                        f,
-                    ))
-                }
-            }
+                None => GraphValues::Fill {
+                    filler: filler(model.unwrap_or(ModelArg::Random), *seed)?,
+                    bond: *bond,
+                },
+            };
+            let family = Family::RegularGraph {
+                vertices: *vertices,
+                degree: *degree,
+                seed: *seed,
+                values,
+            };
+            (family, out)
         }
-        Family::Brickwork {
+        FamilyArgs::Brickwork {
             rows,
             cols,
             depth,
             seed,
             bitstring,
             open,
-            ..
-        } => {
-            let open = open
-                .as_deref()
-                .map(|o| OpenQubits::parse(o).map_err(|m| Error::usage(format!("--open: {m}"))))
-                .transpose()?;
-            let spec = AmplitudeSpec {
-                bitstring: bitstring.clone(),
-                open,
-            };
-            spec.validate().map_err(Error::usage)?;
-            amplitude_network(&brickwork_circuit(*rows, *cols, *depth, *seed)?, &spec)
-        }
-        Family::MatrixChain {
-            dims, model, seed, ..
-        } => {
-            let dims: Vec<u64> = parse_list(dims, ',', "--dims")?;
-            let f = filler(model, *seed)?;
-            Ok(fill(crate::generate::matrix_chain(&dims)?, f))
-        }
-    }
+            out,
+        } => (
+            Family::Brickwork {
+                rows: *rows,
+                cols: *cols,
+                depth: *depth,
+                seed: *seed,
+                amplitude: amplitude(bitstring, open)?,
+            },
+            out,
+        ),
+        FamilyArgs::MatrixChain {
+            dims,
+            model,
+            seed,
+            out,
+        } => (
+            Family::MatrixChain {
+                dims: dims.clone(),
+                filler: filler(*model, *seed)?,
+            },
+            out,
+        ),
+    })
 }
 
 pub(super) fn run(args: GenerateArgs) -> Result<Outcome> {
-    let out = match &args.family {
-        Family::Lattice { out, .. }
-        | Family::RegularGraph { out, .. }
-        | Family::Brickwork { out, .. }
-        | Family::MatrixChain { out, .. } => out,
-    };
-    check_output(&out.output, None)?;
-    let net = build(&args.family)?;
-    let options = WriteOptions {
+    let (family, out) = family(&args.family)?;
+    let opts = GenerateOptions {
+        family,
+        output: out.output.clone(),
         inline_max: out.inline_max,
     };
-    let written = write_native(&net, &out.output, &options)?;
-    Ok(WriteReport::render(&net, written, out.json))
+    let r = generate(&opts)?;
+    Ok(Outcome::render(out.json, &r, r.to_text(), 0))
 }

@@ -1,15 +1,15 @@
 //! `sliceplan import`: read any input kind and write it as a native network
-//! file with its values, so plans and jobs refer to one stable file.
+//! file with its values.
 
 use std::path::PathBuf;
 
 use clap::Args;
-use serde::Serialize;
 
-use super::{to_json, NetArgs, Outcome};
-use crate::error::{Error, Result};
-use crate::formats::write::{write_native, WriteOptions, Written, DEFAULT_INLINE_MAX};
-use crate::network::Network;
+use super::args::NetArgs;
+use super::Outcome;
+use sliceplan::command::import::{import, ImportOptions};
+use sliceplan::error::Result;
+use sliceplan::formats::write::DEFAULT_INLINE_MAX;
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan import demo-data/circuits/ghz-teleport.qasm --bitstring 011101 -o ghz.toml
@@ -37,73 +37,12 @@ pub struct ImportArgs {
     json: bool,
 }
 
-/// What `import` and `generate` report.
-#[derive(Debug, Serialize)]
-pub(super) struct WriteReport {
-    name: String,
-    tensors: usize,
-    indices: usize,
-    open: usize,
-    has_values: bool,
-    #[serde(flatten)]
-    written: Written,
-}
-
-impl WriteReport {
-    pub(super) fn render(net: &Network, written: Written, json: bool) -> Outcome {
-        let report = WriteReport {
-            name: net.name.clone(),
-            tensors: net.num_tensors(),
-            indices: net.num_indices(),
-            open: net.open.len(),
-            has_values: net.has_values(),
-            written,
-        };
-        if json {
-            return Outcome::ok(to_json(&report));
-        }
-        let side = match report.written.npy_files.len() {
-            0 => String::new(),
-            n => format!(", {n} .npy side file(s)"),
-        };
-        Outcome::ok(format!(
-            "wrote {}: {}, {} tensors, {} indices, {} open{side}, fingerprint {}\n",
-            report.written.path.display(),
-            report.name,
-            report.tensors,
-            report.indices,
-            report.open,
-            report.written.fingerprint
-        ))
-    }
-}
-
-/// Checks an output path before any work: a `.toml` file that is not the input.
-pub(super) fn check_output(
-    output: &std::path::Path,
-    input: Option<&std::path::Path>,
-) -> Result<()> {
-    if output.extension().and_then(|e| e.to_str()) != Some("toml") {
-        return Err(Error::usage(format!(
-            "-o {}: the network file must end in .toml",
-            output.display()
-        )));
-    }
-    if input.is_some_and(|i| i == output) {
-        return Err(Error::usage(
-            "-o names the input file; choose another output",
-        ));
-    }
-    Ok(())
-}
-
 pub(super) fn run(args: ImportArgs) -> Result<Outcome> {
-    args.net.validate()?;
-    check_output(&args.output, args.net.net.as_deref())?;
-    let net = args.net.load()?;
-    let options = WriteOptions {
+    let opts = ImportOptions {
+        network: args.net.source()?,
+        output: args.output,
         inline_max: args.inline_max,
     };
-    let written = write_native(&net, &args.output, &options)?;
-    Ok(WriteReport::render(&net, written, args.json))
+    let r = import(&opts)?;
+    Ok(Outcome::render(args.json, &r, r.to_text(), 0))
 }

@@ -1,30 +1,22 @@
 //! `sliceplan jobs`: a plan's chunks as a Slurm job array and a local
 //! runner; `--status` lists what is missing and writes the resubmission.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use clap::Args;
-use serde::Serialize;
 
-use super::{to_json, Outcome};
-use crate::error::{Error, Result};
-
-use super::plan_files::open_plan;
-use crate::jobs::array::array_spec;
-use crate::jobs::quote::shell_word;
-use crate::jobs::resources::{format_duration, process_need};
-use crate::jobs::status::{refresh_resubmit, ChunkState, JobStatus};
-use crate::jobs::{
-    job_status, write_jobs, ChunkChoice, JobOptions, MemChoice, Scheduler, Slurm, TimeChoice,
-    WrittenJobs, LOCAL_FILE, SUBMIT_FILE,
-};
+use super::{Outcome, EXIT_CANNOT};
+use sliceplan::command::jobs::{status, write, JobsOptions};
+use sliceplan::error::{Error, Result};
+use sliceplan::jobs::{ChunkChoice, JobOptions, MemChoice, Slurm, TimeChoice};
+use sliceplan::report::jobs::{status_text, written_text};
 
 pub(super) const EXAMPLES: &str = "Examples:
-  sliceplan jobs job.plan.toml --out runs/job --chunks 64 --max-running 16 --partition compute
-  sliceplan jobs job.plan.toml --out runs/job --slices-per-task 8 --time-per-task 02:00:00 --mem 48GiB
-  sliceplan jobs job.plan.toml --out runs/job --submit
-  sliceplan jobs --status runs/job
-  sliceplan jobs --status runs/job --submit
+  sliceplan jobs ising.plan.toml --out runs/ising --chunks 64 --max-running 16 --partition compute
+  sliceplan jobs ising.plan.toml --out runs/ising --slices-per-task 8 --time-per-task 02:00:00 --mem 48GiB
+  sliceplan jobs ising.plan.toml --out runs/ising --submit
+  sliceplan jobs --status runs/ising
+  sliceplan jobs --status runs/ising --submit
 
 Writes DIR/manifest.toml, DIR/submit.sbatch (one job array) and DIR/run-local.sh.
 --status exits 0 when every chunk is done, 1 when some are missing (and then
@@ -113,9 +105,10 @@ impl JobsArgs {
         let binary = match &self.binary {
             Some(b) => b.clone(),
             None => std::env::current_exe().map_err(|e| {
-                Error::usage(format!(
-                    "cannot tell where this sliceplan binary is ({e}); give --binary PATH"
-                ))
+                Error::invalid(
+                    "binary",
+                    format!("cannot tell where this sliceplan binary is ({e}); give its path"),
+                )
             })?,
         };
         let opts = JobOptions {
@@ -135,185 +128,30 @@ impl JobsArgs {
 }
 
 pub(super) fn run(args: JobsArgs) -> Result<Outcome> {
+    let mut slurm = Slurm::default();
     if let Some(dir) = &args.status {
-        return status(dir, args.submit, args.json);
+        let st = status(dir, args.submit, &mut slurm)?;
+        let text = status_text(
+            &st.status,
+            st.resubmit.as_deref(),
+            st.submitted_job.as_deref(),
+        );
+        let code = if st.complete() { 0 } else { EXIT_CANNOT };
+        return Ok(Outcome::render(args.json, &st, text, code));
     }
-    let opts = args.options()?;
-    let (plan_path, out) = match (&args.plan, &args.out) {
+    let job = args.options()?;
+    let (plan, out) = match (args.plan, args.out) {
         (Some(p), Some(o)) => (p, o),
         _ => return Err(Error::usage("give PLAN and --out DIR, or --status DIR")),
     };
-    let (plan, net) = open_plan(plan_path, args.network.as_deref())?;
-    let need = process_need(&plan, &net)?;
-    let written = write_jobs(plan_path, &plan, &need, &opts, out)?;
-    let submitted = if args.submit {
-        Some(Slurm::default().submit(&written.dir.join(SUBMIT_FILE))?)
-    } else {
-        None
+    let opts = JobsOptions {
+        plan,
+        out,
+        network: args.network,
+        job,
+        submit: args.submit,
     };
-    if args.json {
-        #[derive(Serialize)]
-        struct Json<'a> {
-            #[serde(flatten)]
-            written: &'a WrittenJobs,
-            submitted_job: Option<String>,
-        }
-        return Ok(Outcome::ok(to_json(&Json {
-            written: &written,
-            submitted_job: submitted,
-        })));
-    }
-    Ok(Outcome::ok(written_text(&written, submitted.as_deref())))
-}
-
-fn written_text(w: &WrittenJobs, submitted: Option<&str>) -> String {
-    let m = &w.manifest;
-    let t = &m.task;
-    let sizes: Vec<u64> = m
-        .chunk_list
-        .iter()
-        .map(|c| c.end_slice - c.first_slice)
-        .collect();
-    let (lo, hi) = (
-        sizes.iter().min().copied().unwrap_or(0),
-        sizes.iter().max().copied().unwrap_or(0),
-    );
-    let size = if lo == hi {
-        format!("{hi}")
-    } else {
-        format!("{lo} or {hi}")
-    };
-    let dir = w.dir.display().to_string();
-    let mut s = format!(
-        "jobs for plan {} (fingerprint {})\n  {} slices in {} chunks of {size} slice{}; array {}\n",
-        m.plan,
-        m.plan_fingerprint,
-        m.slices,
-        m.chunks,
-        if hi == 1 { "" } else { "s" },
-        w.array
-    );
-    s.push_str(&format!(
-        "  --mem={}M      {}\n  --time={}   {}\n  --cpus-per-task={} (each run uses {} thread(s))\n",
-        t.mem.mib,
-        t.mem.basis,
-        format_duration(t.time.seconds),
-        t.time.basis,
-        t.cpus_per_task,
-        t.cpus_per_task
-    ));
-    s.push_str("wrote\n");
-    for f in &w.files {
-        s.push_str(&format!("  {}\n", f.display()));
-    }
-    for n in &w.notes {
-        s.push_str(&format!("note: {n}\n"));
-    }
-    let partials = format!("{dir}/{}", m.partials_dir);
-    match submitted {
-        Some(job) => s.push_str(&format!("submitted job {job}\nnext\n")),
-        None => s.push_str(&format!(
-            "next\n  submit:       sbatch {}\n  or run here:  {} -j 2\n",
-            shell_word(&format!("{dir}/{SUBMIT_FILE}")),
-            shell_word(&format!("{dir}/{LOCAL_FILE}"))
-        )),
-    }
-    s.push_str(&format!(
-        "  progress:     sliceplan jobs --status {}\n  result:       sliceplan gather {} {}\n",
-        shell_word(&dir),
-        shell_word(&m.plan),
-        shell_word(&partials)
-    ));
-    s
-}
-
-fn status(dir: &Path, submit: bool, json: bool) -> Result<Outcome> {
-    let st = job_status(dir)?;
-    let resubmit = refresh_resubmit(dir, &st)?;
-    let submitted = match (&resubmit, submit) {
-        (Some(script), true) => Some(Slurm::default().submit(script)?),
-        _ => None,
-    };
-    let code = if st.missing.is_empty() { 0 } else { 1 };
-    if json {
-        #[derive(Serialize)]
-        struct Json<'a> {
-            #[serde(flatten)]
-            status: &'a JobStatus,
-            resubmit: Option<&'a PathBuf>,
-            submitted_job: Option<String>,
-        }
-        let stdout = to_json(&Json {
-            status: &st,
-            resubmit: resubmit.as_ref(),
-            submitted_job: submitted,
-        });
-        return Ok(Outcome { stdout, code });
-    }
-    Ok(Outcome {
-        stdout: status_text(&st, resubmit.as_deref(), submitted.as_deref()),
-        code,
-    })
-}
-
-/// Lines of detail shown before "... and N more".
-const DETAIL_LINES: usize = 20;
-
-fn status_text(st: &JobStatus, resubmit: Option<&Path>, submitted: Option<&str>) -> String {
-    let mut s = format!(
-        "job directory {}: plan {} (fingerprint {})\n",
-        st.dir.display(),
-        st.plan,
-        st.plan_fingerprint
-    );
-    if st.missing.is_empty() {
-        s.push_str(&format!(
-            "  all {} chunks done\n  result: sliceplan gather {} {}\n",
-            st.chunks,
-            shell_word(&st.plan),
-            shell_word(&format!("{}/partials", st.dir.display()))
-        ));
-        return s;
-    }
-    s.push_str(&format!(
-        "  {} of {} chunks done; missing {}: {}\n",
-        st.done,
-        st.chunks,
-        st.missing.len(),
-        array_spec(&st.missing, None)
-    ));
-    for c in st.missing_detail.iter().take(DETAIL_LINES) {
-        let what = match c.state {
-            ChunkState::Done => "done".to_string(),
-            ChunkState::Failed { exit_code } => {
-                format!("failed with exit code {exit_code} (see logs/chunk-{}.err)", c.id)
-            }
-            ChunkState::Lost => "ran (exit code 0) but its partial is gone".into(),
-            ChunkState::Started => {
-                "started, no exit code yet: still running, or killed by the scheduler (time or memory limit; see logs)".into()
-            }
-            ChunkState::NotStarted => "not started".into(),
-        };
-        s.push_str(&format!(
-            "    chunk {} (slices {}..{}): {what}\n",
-            c.id, c.first_slice, c.end_slice
-        ));
-    }
-    if st.missing_detail.len() > DETAIL_LINES {
-        s.push_str(&format!(
-            "    ... and {} more (--json lists all)\n",
-            st.missing_detail.len() - DETAIL_LINES
-        ));
-    }
-    if let Some(r) = resubmit {
-        s.push_str(&format!("  wrote {}\n", r.display()));
-        match submitted {
-            Some(job) => s.push_str(&format!("  submitted job {job}\n")),
-            None => s.push_str(&format!(
-                "  resubmit with: sbatch {}\n",
-                shell_word(&r.display().to_string())
-            )),
-        }
-    }
-    s
+    let outcome = write(&opts, &mut slurm)?;
+    let text = written_text(&outcome.written, outcome.submitted_job.as_deref());
+    Ok(Outcome::render(args.json, &outcome, text, 0))
 }

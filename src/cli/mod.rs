@@ -1,53 +1,56 @@
-//! The command-line interface: argument definitions and the glue that turns
-//! them into library calls. No algorithm lives here.
-//!
-//! Each command has a file holding its clap arguments and a `run` function
-//! that validates them (cheaply, before any long work), calls the library and
-//! returns what to print on stdout with the exit code.
+//! The command line: clap definitions, the conversion of arguments into the
+//! library's checked options, the rendering of its reports, and the exit
+//! codes. No rule of the product lives here; each command is one call
+//! into `sliceplan::command`.
 
-mod budget_args;
+mod args;
 mod fit;
 mod gather;
 mod generate;
 mod import;
 mod inspect;
 mod jobs;
-mod net_args;
 mod plan;
-mod plan_files;
+mod progress;
 mod report;
 mod run;
-mod search_args;
-mod tree_source;
 
 use clap::{Parser, Subcommand};
 
-pub use net_args::NetArgs;
-pub use plan::{PlanArgs, PlanOptions};
-pub use search_args::parse_duration;
+use sliceplan::error::{Error, Result};
 
-use crate::error::Result;
+/// Exit code: the job cannot be done as asked (for example it cannot fit).
+pub const EXIT_CANNOT: u8 = sliceplan::error::EXIT_CANNOT;
 
 /// What a command produced: text for stdout and the exit code.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Outcome {
     /// Everything the command prints on stdout.
     pub stdout: String,
-    /// The process exit code (0 ok, 1 cannot be done as asked).
+    /// The process exit code (0 ok, 1 cannot be done as asked, 3 fits but
+    /// impractical).
     pub code: u8,
 }
 
 impl Outcome {
-    /// A successful outcome printing `stdout`.
-    pub fn ok(stdout: String) -> Outcome {
-        Outcome { stdout, code: 0 }
+    /// Text or JSON, with an exit code.
+    pub fn render<T: serde::Serialize>(json: bool, value: &T, text: String, code: u8) -> Outcome {
+        Outcome {
+            stdout: if json {
+                sliceplan::report::to_json(value)
+            } else {
+                text
+            },
+            code,
+        }
     }
 }
 
 /// sliceplan: memory-budget slicing advisor for tensor-network contraction.
 ///
 /// Exit codes: 0 success, 1 the job cannot be done as asked (e.g. it cannot
-/// fit the budget), 2 bad input or usage.
+/// fit the budget), 2 bad input or usage, 3 it fits but is impractical (see
+/// `fit --help`).
 #[derive(Debug, Parser)]
 #[command(name = "sliceplan", version, about, long_about = None, max_term_width = 100)]
 pub struct Cli {
@@ -105,11 +108,51 @@ pub fn run(cli: Cli) -> Result<Outcome> {
     }
 }
 
-/// Prints JSON for `--json` output (one object, newline-terminated).
-pub(crate) fn to_json<T: serde::Serialize>(value: &T) -> String {
-    let mut s = serde_json::to_string_pretty(value).expect("reports always serialise");
-    s.push('\n');
-    s
+/// The flag that sets a library option field.
+fn flag(field: &str) -> String {
+    match field {
+        "output" => "-o/--output".into(),
+        "budget_bytes" => "--budget".into(),
+        "machines" => "--machine".into(),
+        "amplitude" => "--bitstring/--open".into(),
+        "time" => "--time".into(),
+        "finders" => "--objective".into(),
+        "network" => "--network".into(),
+        "plan" => "PLAN".into(),
+        other => format!("--{}", other.replace('_', "-")),
+    }
+}
+
+/// The message printed for an error: options are named by their flags,
+/// both the option an error is about and any "the `field` option" the
+/// library's message points to.
+pub fn message(err: &Error) -> String {
+    let text = match err {
+        Error::Invalid { field, message } => format!("{}: {message}", flag(field)),
+        other => other.to_string(),
+    };
+    let mut out = String::with_capacity(text.len());
+    let mut rest = text.as_str();
+    while let Some(start) = rest.find("the `") {
+        let after = &rest[start + 5..];
+        match after.find("` option") {
+            Some(end)
+                if after[..end]
+                    .chars()
+                    .all(|c| c.is_ascii_lowercase() || c == '_') =>
+            {
+                out.push_str(&rest[..start]);
+                out.push_str(&flag(&after[..end]));
+                rest = &after[end + "` option".len()..];
+            }
+            _ => {
+                out.push_str(&rest[..start + 5]);
+                rest = after;
+            }
+        }
+    }
+    out.push_str(rest);
+    out
 }
 
 #[cfg(test)]
@@ -119,5 +162,18 @@ mod tests {
     #[test]
     fn cli_definition_is_consistent() {
         super::Cli::command().debug_assert();
+    }
+
+    #[test]
+    fn fields_map_to_flags() {
+        assert_eq!(super::flag("slices_per_task"), "--slices-per-task");
+        assert_eq!(super::flag("budget_bytes"), "--budget");
+        let e = sliceplan::Error::Cannot(
+            "x holds other jobs; replace them with the `force` option, or keep `values` as they are".into(),
+        );
+        assert_eq!(
+            super::message(&e),
+            "x holds other jobs; replace them with --force, or keep `values` as they are"
+        );
     }
 }

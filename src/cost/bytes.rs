@@ -1,8 +1,9 @@
 //! Byte quantities with units: `64GiB`, `1.5TB`, `4096`.
 //!
 //! Binary units (KiB, MiB, GiB, TiB, PiB) are powers of 1024 and decimal
-//! units (KB, MB, GB, TB, PB) powers of 1000, as IEC 80000-13 defines them.
-//! A bare number is bytes; `B` may follow any unit or none. Fractions are
+//! units (KB, MB, GB, TB, PB) powers of 1000, as IEC 80000-13 defines them;
+//! a bare letter (K, M, G, T, P, as in Slurm's `--mem=64G`) is a power of
+//! 1024, as the scheduler reads it. A bare number is bytes. Fractions are
 //! allowed (`1.5GiB`) and rounded down to whole bytes.
 
 /// Parses a byte quantity; the error says what a valid value looks like.
@@ -12,10 +13,12 @@
 /// assert_eq!(parse_bytes("1GiB"), Ok(1_073_741_824));
 /// assert_eq!(parse_bytes("1GB"), Ok(1_000_000_000));
 /// assert_eq!(parse_bytes("512 MiB"), Ok(512 << 20));
+/// assert_eq!(parse_bytes("64G"), Ok(64 << 30)); // Slurm's --mem spelling
+/// assert_eq!(parse_bytes("64Gi"), Ok(64 << 30));
 /// assert!(parse_bytes("-1GB").is_err());
 /// ```
 pub fn parse_bytes(text: &str) -> Result<u64, String> {
-    let hint = "write a size such as 64GiB, 512MB or 1048576 (KiB/MiB/GiB/TiB/PiB = powers of 1024, KB/MB/GB/TB/PB = powers of 1000)";
+    let hint = "write a size such as 64GiB, 512MB or 1048576 (KiB/MiB/GiB/TiB/PiB and K/M/G/T/P = powers of 1024, KB/MB/GB/TB/PB = powers of 1000)";
     let t = text.trim();
     let split = t
         .find(|c: char| !(c.is_ascii_digit() || c == '.' || c == '_'))
@@ -37,14 +40,16 @@ pub fn parse_bytes(text: &str) -> Result<u64, String> {
         "g" if unit.len() == 2 => 1_000_000_000,
         "t" if unit.len() == 2 => 1_000_000_000_000,
         "p" if unit.len() == 2 => 1_000_000_000_000_000,
-        "ki" => 1 << 10,
-        "mi" => 1 << 20,
-        "gi" => 1 << 30,
-        "ti" => 1 << 40,
-        "pi" => 1 << 50,
+        // A bare letter is the batch scheduler's spelling (`--mem=64G`):
+        // powers of 1024, as Slurm reads it.
+        "k" | "ki" => 1 << 10,
+        "m" | "mi" => 1 << 20,
+        "g" | "gi" => 1 << 30,
+        "t" | "ti" => 1 << 40,
+        "p" | "pi" => 1 << 50,
         _ => return Err(format!("'{text}': unknown unit '{unit}'; {hint}")),
     };
-    if unit.len() > 1 && !unit.ends_with(['B', 'b']) {
+    if unit.len() > 1 && !unit.ends_with(['B', 'b']) && !unit.ends_with(['i', 'I']) {
         return Err(format!(
             "'{text}': unknown unit '{unit}' (did you mean '{unit}B'?); {hint}"
         ));
@@ -105,12 +110,16 @@ mod tests {
         assert_eq!(parse_bytes("100"), Ok(100));
         assert_eq!(parse_bytes("100B"), Ok(100));
         assert_eq!(parse_bytes(" 64 gib "), Ok(64 << 30));
+        // A bare binary prefix, as in Slurm's --mem=64G (powers of 1024).
+        assert_eq!(parse_bytes("64G"), Ok(64 << 30));
+        assert_eq!(parse_bytes("5Gi"), Ok(5 << 30));
+        assert_eq!(parse_bytes("512M"), Ok(512 << 20));
     }
 
     #[test]
     fn junk_negatives_and_overflow_are_refused() {
         for bad in [
-            "", "GiB", "-1GB", "1.2.3GB", "12XB", "1e9", "5Gi", "abc", ".5GB", "1.GB",
+            "", "GiB", "-1GB", "1.2.3GB", "12XB", "1e9", "5Gx", "abc", ".5GB", "1.GB",
         ] {
             assert!(parse_bytes(bad).is_err(), "{bad}");
         }

@@ -92,7 +92,7 @@ impl AmplitudeSpec {
         if let Some(bits) = &self.bitstring {
             if let Some(bad) = bits.chars().find(|&ch| ch != '0' && ch != '1') {
                 return Err(format!(
-                    "--bitstring may hold only 0 and 1 (leftmost = qubit 0), found {bad:?}"
+                    "the bitstring may hold only 0 and 1 (leftmost = qubit 0), found {bad:?}"
                 ));
             }
         }
@@ -101,15 +101,16 @@ impl AmplitudeSpec {
 
     /// The output bit of every qubit and the open qubits in output order.
     fn resolve(&self, c: &Circuit) -> Result<(Vec<u8>, Vec<usize>)> {
-        self.validate().map_err(Error::usage)?;
+        self.validate()
+            .map_err(|m| Error::invalid("bitstring", m))?;
         let n = c.num_qubits();
         let bits: Vec<u8> = match &self.bitstring {
             None => vec![0; n],
             Some(s) => {
                 let bits: Vec<u8> = s.bytes().map(|b| b - b'0').collect();
                 if bits.len() != n {
-                    return Err(Error::usage(format!(
-                        "--bitstring has {} characters but '{}' has {n} qubits; give one 0/1 per qubit, leftmost = qubit 0 ({}), qubits numbered across registers in declaration order",
+                    return Err(Error::invalid("bitstring", format!(
+                        "the bitstring has {} characters but '{}' has {n} qubits; give one 0/1 per qubit, leftmost = qubit 0 ({}), qubits numbered across registers in declaration order",
                         bits.len(),
                         c.name,
                         c.labels.first().map(String::as_str).unwrap_or("none")
@@ -123,11 +124,14 @@ impl AmplitudeSpec {
             Some(OpenQubits::All) => (0..n).collect(),
             Some(OpenQubits::List(list)) => {
                 if let Some(&q) = list.iter().find(|&&q| q >= n) {
-                    return Err(Error::usage(format!(
-                        "--open: qubit {q} does not exist; '{}' has qubits 0..{}",
-                        c.name,
-                        n.saturating_sub(1)
-                    )));
+                    return Err(Error::invalid(
+                        "open",
+                        format!(
+                            "qubit {q} does not exist; '{}' has qubits 0..{}",
+                            c.name,
+                            n.saturating_sub(1)
+                        ),
+                    ));
                 }
                 list.clone()
             }

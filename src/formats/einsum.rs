@@ -115,7 +115,7 @@ pub fn network_from_einsum(
     default_dim: Option<u64>,
     dims: &[(String, u64)],
 ) -> Result<Network> {
-    let source = "--einsum";
+    let source = "einsum equation";
     let parsed = parse_equation(eq).map_err(|m| Error::in_source(source, m))?;
     let mut b = NetworkBuilder::new(source);
     b.name(eq.trim());
@@ -125,12 +125,12 @@ pub fn network_from_einsum(
     for (name, d) in dims {
         if !parsed.inputs.iter().any(|op| op.contains(name)) {
             return Err(Error::in_source(
-                "--dims",
+                "einsum dimensions",
                 format!("index '{name}' does not appear in the equation '{eq}'"),
             ));
         }
         b.declare(name, *d, None)
-            .map_err(|e| Error::in_source("--dims", strip_source(&e)))?;
+            .map_err(|e| Error::in_source("einsum dimensions", strip_source(&e)))?;
     }
     for (k, op) in parsed.inputs.iter().enumerate() {
         b.tensor(&format!("T{k}"), op, None, None)?;

@@ -20,7 +20,7 @@ use crate::error::{Error, Result};
 use crate::network::Network;
 
 pub use circuit::{AmplitudeSpec, OpenQubits};
-pub use graph::GraphProblem;
+pub use graph::{GraphProblem, ProblemKind};
 
 /// The input formats [`load`] understands.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -58,9 +58,10 @@ impl Format {
             "qasm" | "openqasm" => Ok(Format::Qasm),
             "cnf" | "dimacs-cnf" => Ok(Format::Cnf),
             "graph" | "dimacs-graph" | "edge-list" => Ok(Format::Graph),
-            other => Err(Error::usage(format!(
-                "unknown input format '{other}'; valid: {FORMAT_NAMES}"
-            ))),
+            other => Err(Error::invalid(
+                "format",
+                format!("unknown input format '{other}'; valid: {FORMAT_NAMES}"),
+            )),
         }
     }
 }
@@ -83,18 +84,19 @@ pub fn load(path: &Path, options: &LoadOptions) -> Result<Network> {
         None => {
             return Err(Error::in_source(
                 path.display().to_string(),
-                "cannot tell the input format from the file name; use .toml (network), .qasm (OpenQASM 2.0), .cnf (DIMACS CNF), .col/.graph/.edges (graph), or give --format",
+                "cannot tell the input format from the file name; use .toml (network), .qasm (OpenQASM 2.0), .cnf (DIMACS CNF), .col/.graph/.edges (graph), or name the format",
             ))
         }
     };
     let circuit_only = options.amplitude != AmplitudeSpec::default();
     if circuit_only && format != Format::Qasm {
-        return Err(Error::usage(
-            "--bitstring and --open apply to OpenQASM circuits only",
+        return Err(Error::invalid(
+            "amplitude",
+            "the bitstring and open qubits apply to OpenQASM circuits only",
         ));
     }
     if options.problem.is_some() && format != Format::Graph {
-        return Err(Error::usage("--problem applies to graph input only"));
+        return Err(Error::invalid("problem", "applies to graph input only"));
     }
     match format {
         Format::Native => native::read_native(path),
@@ -102,11 +104,14 @@ pub fn load(path: &Path, options: &LoadOptions) -> Result<Network> {
         Format::Cnf => cnf::load_cnf(path),
         Format::Graph => {
             let problem = options.problem.as_ref().ok_or_else(|| {
-                Error::usage(format!(
-                    "{}: a graph needs --problem to say what to count ({})",
-                    path.display(),
-                    GraphProblem::NAMES
-                ))
+                Error::invalid(
+                    "problem",
+                    format!(
+                        "{}: a graph needs a problem to say what to count ({})",
+                        path.display(),
+                        GraphProblem::NAMES
+                    ),
+                )
             })?;
             let g = graph::read_graph(path)?;
             let stem = path

@@ -47,8 +47,9 @@ pub fn ising_lattice(shape: &[usize], periodic: bool, p: IsingParams) -> Result<
     .iter()
     .all(|x| x.is_finite())
     {
-        return Err(Error::usage(
-            "--beta, --coupling and --field must be finite and small enough for exp()",
+        return Err(Error::invalid(
+            "beta",
+            "the inverse temperature, coupling and field must be finite and small enough for exp()",
         ));
     }
     let mut net = lattice(shape, 2, periodic)?;

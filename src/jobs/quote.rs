@@ -56,18 +56,21 @@ pub fn pattern_literal(text: &str) -> String {
     text.replace('%', "%%")
 }
 
-/// The path as text a script can carry, or an error naming `what` (e.g.
-/// `--out`) and why it cannot be used.
-pub fn script_path(what: &str, path: &Path) -> Result<String> {
+/// The path as text a script can carry, or an error naming the option
+/// `field` it came from and why it cannot be used.
+pub fn script_path(field: &'static str, path: &Path) -> Result<String> {
     let text = path.to_str().ok_or_else(|| {
-        Error::usage(format!(
-            "{what}: the path {} is not valid UTF-8; scripts need a path they can spell",
-            path.display()
-        ))
+        Error::invalid(
+            field,
+            format!(
+                "the path {} is not valid UTF-8; scripts need a path they can spell",
+                path.display()
+            ),
+        )
     })?;
     if let Some(c) = text.chars().find(|c| c.is_control()) {
-        return Err(Error::usage(format!(
-            "{what}: the path {text:?} holds the control character {c:?}; a script line cannot carry it, use a path without one"
+        return Err(Error::invalid(field, format!(
+            "the path {text:?} holds the control character {c:?}; a script line cannot carry it, use a path without one"
         )));
     }
     Ok(text.to_string())
@@ -75,11 +78,11 @@ pub fn script_path(what: &str, path: &Path) -> Result<String> {
 
 /// Like [`script_path`], for a directory that also appears in Slurm
 /// file-name patterns (where a backslash would switch off `%a`).
-pub fn pattern_dir(what: &str, path: &Path) -> Result<String> {
-    let text = script_path(what, path)?;
+pub fn pattern_dir(field: &'static str, path: &Path) -> Result<String> {
+    let text = script_path(field, path)?;
     if text.contains('\\') {
-        return Err(Error::usage(format!(
-            "{what}: the path {text:?} holds a backslash, which turns off Slurm's %a in log file names; use a path without one"
+        return Err(Error::invalid(field, format!(
+            "the path {text:?} holds a backslash, which turns off Slurm's %a in log file names; use a path without one"
         )));
     }
     Ok(text)
@@ -87,7 +90,7 @@ pub fn pattern_dir(what: &str, path: &Path) -> Result<String> {
 
 /// Checks a plain `#SBATCH` value such as a partition or account name:
 /// letters, digits and `_ - . , + :` only (a comma lists several).
-pub fn plain_value(what: &str, text: &str) -> Result<String> {
+pub fn plain_value(field: &'static str, text: &str) -> Result<String> {
     let ok = !text.is_empty()
         && text
             .chars()
@@ -95,8 +98,8 @@ pub fn plain_value(what: &str, text: &str) -> Result<String> {
     if ok {
         Ok(text.to_string())
     } else {
-        Err(Error::usage(format!(
-            "{what}: '{text}' is not a valid name; use letters, digits and _ - . , + : (e.g. 'compute' or 'proj-42')"
+        Err(Error::invalid(field, format!(
+            "'{text}' is not a valid name; use letters, digits and _ - . , + : (e.g. 'compute' or 'proj-42')"
         )))
     }
 }
@@ -119,13 +122,10 @@ mod tests {
 
     #[test]
     fn control_characters_and_backslashes_are_refused() {
-        assert!(script_path("--out", Path::new("/a\nb")).is_err());
-        assert!(pattern_dir("--out", Path::new("/a\\b")).is_err());
-        assert_eq!(
-            pattern_dir("--out", Path::new("/a b/$c")).unwrap(),
-            "/a b/$c"
-        );
-        assert!(plain_value("--partition", "gpu;rm").is_err());
-        assert_eq!(plain_value("--partition", "gpu,cpu").unwrap(), "gpu,cpu");
+        assert!(script_path("out", Path::new("/a\nb")).is_err());
+        assert!(pattern_dir("out", Path::new("/a\\b")).is_err());
+        assert_eq!(pattern_dir("out", Path::new("/a b/$c")).unwrap(), "/a b/$c");
+        assert!(plain_value("partition", "gpu;rm").is_err());
+        assert_eq!(plain_value("partition", "gpu,cpu").unwrap(), "gpu,cpu");
     }
 }

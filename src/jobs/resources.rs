@@ -51,11 +51,12 @@ impl MemChoice {
             return Ok(MemChoice::Auto);
         }
         match parse_bytes(text) {
-            Ok(0) => Err(Error::usage(
-                "--mem: 0 bytes cannot hold anything; give a size or 'auto'",
+            Ok(0) => Err(Error::invalid(
+                "mem",
+                "0 bytes cannot hold anything; give a size or 'auto'",
             )),
             Ok(b) => Ok(MemChoice::Bytes(b)),
-            Err(m) => Err(Error::usage(format!("--mem: {m}, or 'auto'"))),
+            Err(m) => Err(Error::invalid("mem", format!("{m}, or 'auto'"))),
         }
     }
 }
@@ -132,10 +133,13 @@ pub fn mem_request(need: &MemoryNeed, choice: MemChoice) -> Result<MemRequest> {
         }
         MemChoice::Bytes(b) => {
             if (b as f64) < total {
-                return Err(Error::usage(format!(
-                    "--mem {} is below what one task needs ({breakdown}); give at least that, or 'auto'",
-                    bytes_human(b as f64)
-                )));
+                return Err(Error::invalid(
+                    "mem",
+                    format!(
+                        "{} is below what one task needs ({breakdown}); give at least that, or 'auto'",
+                        bytes_human(b as f64)
+                    ),
+                ));
             }
             (
                 (b as f64 / MIB).ceil() as u64,
@@ -198,21 +202,25 @@ pub fn time_request(
         }),
         TimeChoice::Auto => {
             let per = seconds_per_slice.ok_or_else(|| {
-                Error::usage(
-                    "--time-per-task: the plan has no time estimate (plan with a machine profile to get one); give the time as HH:MM:SS",
+                Error::invalid(
+                    "time_per_task",
+                    "the plan has no time estimate: give the time per task as HH:MM:SS, or plan again with a machine profile (e.g. cpu-64g) to get an estimate",
                 )
             })?;
             if !(per.is_finite() && per >= 0.0) {
-                return Err(Error::usage(format!(
-                    "--time-per-task: the plan's estimate of {per} s per slice is not usable; give the time as HH:MM:SS"
-                )));
+                return Err(Error::invalid(
+                    "time_per_task",
+                    format!(
+                        "the plan's estimate of {per} s per slice is not usable; give the time as HH:MM:SS"
+                    ),
+                ));
             }
             let rounds = slices.div_ceil(parallel.max(1));
             let model = rounds as f64 * per;
             let raw = model * TIME_SAFETY_FACTOR + TIME_STARTUP_SECONDS as f64;
             if raw > 365.0 * 86_400.0 {
                 return Err(Error::Cannot(format!(
-                    "one task would need {} by the model; use more chunks (--chunks) so each task is shorter",
+                    "one task would need {} by the model; use more chunks so each task is shorter",
                     format_duration(raw as u64)
                 )));
             }
@@ -248,9 +256,12 @@ fn seconds_text(s: f64) -> String {
 /// ```
 pub fn parse_duration(text: &str) -> Result<u64> {
     let bad = || {
-        Error::usage(format!(
-            "--time-per-task: '{text}' is not a time; write HH:MM:SS (e.g. 02:30:00) or D-HH:MM:SS (e.g. 1-12:00:00), or 'auto'"
-        ))
+        Error::invalid(
+            "time_per_task",
+            format!(
+                "'{text}' is not a time; write HH:MM:SS (e.g. 02:30:00) or D-HH:MM:SS (e.g. 1-12:00:00), or 'auto'"
+            ),
+        )
     };
     let t = text.trim();
     let (days, hms) = match t.split_once('-') {
@@ -270,8 +281,9 @@ pub fn parse_duration(text: &str) -> Result<u64> {
     }
     let s = days * 86_400 + n[0] * 3600 + n[1] * 60 + n[2];
     if s == 0 {
-        return Err(Error::usage(
-            "--time-per-task: a time of zero cannot run anything; give HH:MM:SS",
+        return Err(Error::invalid(
+            "time_per_task",
+            "a time of zero cannot run anything; give HH:MM:SS",
         ));
     }
     Ok(s)

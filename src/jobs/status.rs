@@ -160,7 +160,7 @@ pub fn write_resubmit(dir: &Path, ids: &[u64]) -> Result<PathBuf> {
     }
     let abs = std::fs::canonicalize(dir).map_err(|e| Error::read(dir, e))?;
     let paths = ScriptPaths {
-        dir: pattern_dir("job directory", &abs)?,
+        dir: pattern_dir("status", &abs)?,
         plan: script_path("plan", Path::new(&m.plan))?,
         binary: script_path("binary", Path::new(&m.task.binary))?,
     };

@@ -63,25 +63,25 @@ impl JobOptions {
     /// Checks the values that need no file.
     pub fn check(&self) -> Result<()> {
         match self.chunks {
-            ChunkChoice::Count(0) => return Err(Error::usage("--chunks must be at least 1")),
+            ChunkChoice::Count(0) => return Err(Error::invalid("chunks", "must be at least 1")),
             ChunkChoice::SlicesPerTask(0) => {
-                return Err(Error::usage("--slices-per-task must be at least 1"))
+                return Err(Error::invalid("slices_per_task", "must be at least 1"))
             }
             _ => {}
         }
         if self.max_running == Some(0) {
-            return Err(Error::usage("--max-running must be at least 1"));
+            return Err(Error::invalid("max_running", "must be at least 1"));
         }
         if self.cpus_per_task == Some(0) {
-            return Err(Error::usage("--cpus-per-task must be at least 1"));
+            return Err(Error::invalid("cpus_per_task", "must be at least 1"));
         }
         if let Some(p) = &self.partition {
-            plain_value("--partition", p)?;
+            plain_value("partition", p)?;
         }
         if let Some(a) = &self.account {
-            plain_value("--account", a)?;
+            plain_value("account", a)?;
         }
-        script_path("--binary", &self.binary)?;
+        script_path("binary", &self.binary)?;
         Ok(())
     }
 }
@@ -106,17 +106,21 @@ pub fn chunk_count(slices: u64, choice: ChunkChoice) -> Result<u64> {
     let n = match choice {
         ChunkChoice::Default => slices.min(DEFAULT_MAX_CHUNKS),
         ChunkChoice::Count(n) if n > slices => {
-            return Err(Error::usage(format!(
-                "--chunks {n}: the plan has only {slices} slice(s); give 1 to {slices}"
-            )))
+            return Err(Error::invalid(
+                "chunks",
+                format!("{n}: the plan has only {slices} slice(s); give 1 to {slices}"),
+            ))
         }
         ChunkChoice::Count(n) => n,
         ChunkChoice::SlicesPerTask(k) => slices.div_ceil(k),
     };
     if n > MAX_CHUNKS {
-        return Err(Error::usage(format!(
-            "{n} chunks is more than the {MAX_CHUNKS} one job directory holds; give --chunks or a larger --slices-per-task"
-        )));
+        return Err(Error::invalid(
+            "chunks",
+            format!(
+                "{n} chunks is more than the {MAX_CHUNKS} one job directory holds; give fewer chunks or more slices per task"
+            ),
+        ));
     }
     Ok(n.max(1))
 }
@@ -156,8 +160,8 @@ pub fn write_jobs(
     std::fs::create_dir_all(out).map_err(|e| Error::write(out, e))?;
     let dir = std::fs::canonicalize(out).map_err(|e| Error::write(out, e))?;
     let paths = ScriptPaths {
-        dir: pattern_dir("--out", &dir)?,
-        plan: script_path("PLAN", &plan_abs)?,
+        dir: pattern_dir("out", &dir)?,
+        plan: script_path("plan", &plan_abs)?,
         binary,
     };
     let fingerprint = plan.fingerprint();
@@ -224,18 +228,21 @@ pub fn write_jobs(
 /// The binary as an absolute path the scripts can carry.
 fn resolve_binary(binary: &Path, notes: &mut Vec<String>) -> Result<String> {
     match std::fs::canonicalize(binary) {
-        Ok(abs) => script_path("--binary", &abs),
+        Ok(abs) => script_path("binary", &abs),
         Err(_) if binary.is_absolute() => {
             notes.push(format!(
-                "--binary {} does not exist on this machine; the tasks will need it where they run",
+                "the binary {} does not exist on this machine; the tasks will need it where they run",
                 binary.display()
             ));
-            script_path("--binary", binary)
+            script_path("binary", binary)
         }
-        Err(e) => Err(Error::usage(format!(
-            "--binary {}: {e}; give the path of a sliceplan binary",
-            binary.display()
-        ))),
+        Err(e) => Err(Error::invalid(
+            "binary",
+            format!(
+                "{}: {e}; give the path of a sliceplan binary",
+                binary.display()
+            ),
+        )),
     }
 }
 
@@ -269,12 +276,12 @@ fn guard_existing(
     let old = match read_manifest(dir) {
         Ok(old) => old,
         Err(e) if force => {
-            notes.push(format!("--force: replaced {} ({e})", manifest_path.display()));
+            notes.push(format!("forced: replaced {} ({e})", manifest_path.display()));
             return Ok(());
         }
         Err(e) => {
             return Err(Error::Cannot(format!(
-                "{} exists and is not a job manifest this build can read ({e}); choose another --out, or give --force to overwrite it",
+                "{} exists and is not a job manifest this build can read ({e}); choose another job directory, or overwrite it with the `force` option",
                 manifest_path.display()
             )))
         }
@@ -299,7 +306,7 @@ fn guard_existing(
             format!(" and {} of its partials", old_partials.len())
         };
         return Err(Error::Cannot(format!(
-            "{} holds the jobs of plan {}{held} (this plan is {fingerprint}); choose another --out, or give --force to replace them (partials are moved aside, not deleted)",
+            "{} holds the jobs of plan {}{held} (this plan is {fingerprint}); choose another job directory, or replace them with the `force` option (partials are moved aside, not deleted)",
             dir.display(),
             old.plan_fingerprint,
         )));
@@ -315,7 +322,7 @@ fn guard_existing(
             std::fs::rename(p, &to).map_err(|e| Error::write(&to, e))?;
         }
         notes.push(format!(
-            "--force: moved {} partial(s) of plan {} to {}",
+            "forced: moved {} partial(s) of plan {} to {}",
             old_partials.len(),
             old.plan_fingerprint,
             aside.display()

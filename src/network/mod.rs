@@ -262,21 +262,33 @@ impl Network {
         fingerprint::fingerprint(self)
     }
 
-    /// Resolves a comma-separated list of index names to ids.
-    pub fn parse_index_list(&self, list: &str, what: &str) -> crate::Result<Vec<IndexId>> {
+    /// Resolves a comma-separated list of index names to ids (`field`
+    /// names the option in errors).
+    pub fn parse_index_list(&self, list: &str, field: &'static str) -> crate::Result<Vec<IndexId>> {
+        let names: Vec<String> = list.split(',').map(String::from).collect();
+        self.index_ids(&names, field)
+    }
+
+    /// Resolves index names to ids, refusing unknown and repeated names
+    /// (`field` names the option in errors).
+    pub fn index_ids(&self, names: &[String], field: &'static str) -> crate::Result<Vec<IndexId>> {
         let mut out = Vec::new();
-        for name in list.split(',').map(str::trim).filter(|s| !s.is_empty()) {
+        for name in names.iter().map(|s| s.trim()).filter(|s| !s.is_empty()) {
             let id = self.index_id(name).ok_or_else(|| {
-                crate::Error::usage(format!(
-                    "{what}: the network has no index named '{name}' (it has {} indices, e.g. {})",
-                    self.indices.len(),
-                    self.index_examples()
-                ))
+                crate::Error::invalid(
+                    field,
+                    format!(
+                        "the network has no index named '{name}' (it has {} indices, e.g. {})",
+                        self.indices.len(),
+                        self.index_examples()
+                    ),
+                )
             })?;
             if out.contains(&id) {
-                return Err(crate::Error::usage(format!(
-                    "{what}: index '{name}' is listed twice"
-                )));
+                return Err(crate::Error::invalid(
+                    field,
+                    format!("index '{name}' is listed twice"),
+                ));
             }
             out.push(id);
         }

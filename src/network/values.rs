@@ -90,6 +90,73 @@ pub fn materialize(net: &Network, t: TensorId) -> Result<Vec<Complex64>> {
     }
 }
 
+/// The `.npy` side files of a network, as `inspect` reports them.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ValueFiles {
+    /// Tensors whose values come from `.npy` files.
+    pub files: usize,
+    /// Bytes of data those files describe.
+    pub data_bytes: u64,
+    /// What is wrong with the files that are not whole, one line each.
+    pub problems: Vec<String>,
+}
+
+/// Checks the `.npy` side files of `net` (readable, a valid header, the
+/// tensor's shape, a file as long as the header says); `None` when the
+/// network has none.
+pub fn value_files(net: &Network) -> Option<ValueFiles> {
+    let mut report = ValueFiles {
+        files: 0,
+        data_bytes: 0,
+        problems: Vec::new(),
+    };
+    for t in 0..net.num_tensors() {
+        if let Some(Values::Npy(path)) = &net.tensors[t].values {
+            report.files += 1;
+            match check_npy(net, t, path) {
+                Ok(bytes) => report.data_bytes = report.data_bytes.saturating_add(bytes),
+                Err(e) => report.problems.push(e.to_string()),
+            }
+        }
+    }
+    (report.files > 0).then_some(report)
+}
+
+/// Fails on the first `.npy` side file of `net` that is not whole (see
+/// [`value_files`]): checked before a plan or a job directory is written,
+/// so a broken file is found here and not by a task on the cluster.
+pub fn check_value_files(net: &Network) -> Result<()> {
+    for t in 0..net.num_tensors() {
+        if let Some(Values::Npy(path)) = &net.tensors[t].values {
+            check_npy(net, t, path)?;
+        }
+    }
+    Ok(())
+}
+
+/// Checks one side file against tensor `t`; returns its data bytes.
+fn check_npy(net: &Network, t: TensorId, path: &std::path::Path) -> Result<u64> {
+    let tensor = &net.tensors[t];
+    let header = crate::npy::read_npy_header(path).map_err(|e| match e {
+        Error::Io { .. } => Error::in_source(
+            &net.name,
+            format!("tensor '{}' takes its values from {e}", tensor.name),
+        ),
+        other => other,
+    })?;
+    let dims: Vec<u64> = tensor.indices.iter().map(|&e| net.indices[e].dim).collect();
+    if header.shape != dims {
+        return Err(Error::in_source(
+            path.display().to_string(),
+            format!(
+                "tensor '{}' has shape {dims:?}, but the file holds shape {:?}",
+                tensor.name, header.shape
+            ),
+        ));
+    }
+    Ok(header.data_bytes)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -93,6 +93,9 @@ impl SlicedReport {
 pub struct InspectReport {
     /// The network summary.
     pub network: Summary,
+    /// The `.npy` side files and whether each is whole.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub values: Option<crate::network::values::ValueFiles>,
     /// The tree's metrics.
     pub tree: TreeReport,
     /// Metrics with the requested indices sliced.
@@ -167,6 +170,24 @@ impl InspectReport {
                 "structure only (no values)"
             }
         ));
+        if let Some(v) = &self.values {
+            let state = if v.problems.is_empty() {
+                "all whole".to_string()
+            } else {
+                format!("{} not usable", v.problems.len())
+            };
+            out.push_str(&format!(
+                "value files  {} .npy file(s), {} of data, {state}\n",
+                v.files,
+                crate::cost::bytes::bytes_human(v.data_bytes as f64)
+            ));
+            for p in v.problems.iter().take(10) {
+                out.push_str(&format!("  problem    {p}\n"));
+            }
+            if v.problems.len() > 10 {
+                out.push_str(&format!("  ... and {} more\n", v.problems.len() - 10));
+            }
+        }
         out.push('\n');
         out.push_str(&format!("tree: {}\n", self.tree.source));
         out.push_str(&tree_lines(&self.tree));

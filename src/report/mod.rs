@@ -3,11 +3,20 @@
 pub mod chart;
 pub mod fit;
 pub mod inspect;
+pub mod jobs;
 pub mod plan;
 pub mod steps;
 mod table;
 
 pub use table::Table;
+
+/// One JSON object, pretty-printed and newline-terminated: what `--json`
+/// prints and what JSON files hold.
+pub fn to_json<T: serde::Serialize>(value: &T) -> String {
+    let mut s = serde_json::to_string_pretty(value).expect("reports always serialise");
+    s.push('\n');
+    s
+}
 
 /// Formats a log2 value with two decimals (`-inf` as `-`).
 pub fn log2_str(x: f64) -> String {

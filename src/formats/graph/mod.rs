@@ -26,7 +26,7 @@ use std::path::Path;
 use crate::error::{Error, Result};
 use crate::network::MAX_TENSORS;
 
-pub use problems::{graph_network, GraphProblem};
+pub use problems::{graph_network, GraphProblem, ProblemKind};
 
 /// An undirected simple graph with optional per-edge couplings.
 #[derive(Debug, Clone, PartialEq)]

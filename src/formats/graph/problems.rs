@@ -26,6 +26,19 @@ use crate::network::{Dtype, Network, NetworkBuilder, Values};
 /// Vertices with more edges than this get a chain in the matching network.
 pub const CHAIN_FROM: usize = 10;
 
+/// Which problem a graph poses, without its parameters.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ProblemKind {
+    /// Independent sets.
+    IndependentSets,
+    /// Proper colourings (needs a number of colours).
+    Colorings,
+    /// Perfect matchings.
+    PerfectMatchings,
+    /// The Ising partition function (needs an inverse temperature).
+    Ising,
+}
+
 /// What to count on a graph.
 #[derive(Debug, Clone, PartialEq)]
 pub enum GraphProblem {
@@ -50,57 +63,62 @@ pub enum GraphProblem {
 }
 
 impl GraphProblem {
-    /// The names accepted by `--problem`.
+    /// The problems' names, as the command line spells them.
     pub const NAMES: &'static str = "independent-sets, colorings, perfect-matchings, ising";
 
-    /// The problem named `name` (one of [`GraphProblem::NAMES`]) with the
-    /// command-line parameters that go with it; `None` without a name. A
-    /// parameter given for another problem is a usage error.
-    pub fn from_flags(
-        name: Option<&str>,
+    /// The problem of kind `kind` with the parameters that go with it;
+    /// `None` without a kind. A parameter given for another problem, or a
+    /// missing one, is an error naming the parameter's field.
+    pub fn from_parts(
+        kind: Option<ProblemKind>,
         colors: Option<u64>,
         beta: Option<f64>,
         coupling: Option<f64>,
         field: Option<f64>,
     ) -> Result<Option<GraphProblem>> {
-        let ising_only = beta.is_some() || coupling.is_some() || field.is_some();
-        let Some(name) = name else {
-            if colors.is_some() || ising_only {
-                return Err(Error::usage(
-                    "--colors, --beta, --coupling and --field go with --problem",
+        let ising_only = [("beta", beta), ("coupling", coupling), ("field", field)]
+            .into_iter()
+            .find(|(_, v)| v.is_some())
+            .map(|(name, _)| name);
+        let Some(kind) = kind else {
+            if colors.is_some() {
+                return Err(Error::invalid(
+                    "colors",
+                    "goes with a graph problem (colorings)",
                 ));
+            }
+            if let Some(name) = ising_only {
+                return Err(Error::invalid(name, "goes with a graph problem (ising)"));
             }
             return Ok(None);
         };
-        let problem = match name {
-            "independent-sets" => GraphProblem::IndependentSets,
-            "perfect-matchings" => GraphProblem::PerfectMatchings,
-            "colorings" | "colourings" => GraphProblem::Colorings {
+        let problem = match kind {
+            ProblemKind::IndependentSets => GraphProblem::IndependentSets,
+            ProblemKind::PerfectMatchings => GraphProblem::PerfectMatchings,
+            ProblemKind::Colorings => GraphProblem::Colorings {
                 colors: colors.ok_or_else(|| {
-                    Error::usage("--problem colorings needs --colors Q (the number of colours)")
+                    Error::invalid(
+                        "colors",
+                        "the colorings problem needs the number of colours",
+                    )
                 })?,
             },
-            "ising" => GraphProblem::Ising {
+            ProblemKind::Ising => GraphProblem::Ising {
                 beta: beta.ok_or_else(|| {
-                    Error::usage("--problem ising needs --beta (the inverse temperature)")
+                    Error::invalid("beta", "the ising problem needs the inverse temperature")
                 })?,
                 coupling,
                 field: field.unwrap_or(0.0),
             },
-            other => {
-                return Err(Error::usage(format!(
-                    "--problem: unknown problem '{other}'; valid: {}",
-                    GraphProblem::NAMES
-                )))
-            }
         };
-        if colors.is_some() && !matches!(problem, GraphProblem::Colorings { .. }) {
-            return Err(Error::usage("--colors goes with --problem colorings"));
-        }
-        if ising_only && !matches!(problem, GraphProblem::Ising { .. }) {
-            return Err(Error::usage(
-                "--beta, --coupling and --field go with --problem ising",
+        if colors.is_some() && kind != ProblemKind::Colorings {
+            return Err(Error::invalid(
+                "colors",
+                "goes with the colorings problem only",
             ));
+        }
+        if let (Some(name), false) = (ising_only, kind == ProblemKind::Ising) {
+            return Err(Error::invalid(name, "goes with the ising problem only"));
         }
         Ok(Some(problem))
     }
@@ -149,9 +167,10 @@ pub fn graph_network(
             let q = *colors;
             // Each edge tensor holds q^2 values.
             if q == 0 || q > 64 {
-                return Err(Error::usage(format!(
-                    "--colors {q}: give a number of colours from 1 to 64"
-                )));
+                return Err(Error::invalid(
+                    "colors",
+                    format!("{q}: give a number of colours from 1 to 64"),
+                ));
             }
             vertex_model(&mut b, g, q, &vec![1.0; q as usize], |x, y| {
                 if x == y {
@@ -221,14 +240,15 @@ fn ising(
     source: &str,
 ) -> Result<()> {
     if !beta.is_finite() || !field.is_finite() || coupling.is_some_and(|j| !j.is_finite()) {
-        return Err(Error::usage(
-            "--beta, --coupling and --field must be finite numbers",
+        return Err(Error::invalid(
+            "beta",
+            "the inverse temperature, coupling and field must be finite numbers",
         ));
     }
     if coupling.is_some() && g.couplings.is_some() {
         return Err(Error::in_source(
             source,
-            "the file gives a coupling per edge and --coupling gives one for all; use one of them",
+            "the file gives a coupling per edge and the coupling option gives one for all; use one of them",
         ));
     }
     let ids = vertex_indices(b, g, 2, |_| {
@@ -243,10 +263,13 @@ fn ising(
         let (same, differ) = ((beta * j).exp(), (-beta * j).exp());
         let values = vec![same, differ, differ, same];
         if values.iter().any(|x| !x.is_finite()) {
-            return Err(Error::usage(format!(
-                "beta * coupling = {} overflows exp(); choose a smaller --beta",
-                beta * j
-            )));
+            return Err(Error::invalid(
+                "beta",
+                format!(
+                    "beta * coupling = {} overflows exp(); choose a smaller inverse temperature",
+                    beta * j
+                ),
+            ));
         }
         b.tensor_by_ids(&edge_name("e", g, u, v), vec![ids[u], ids[v]], real(values))?;
     }

@@ -10,16 +10,19 @@ use crate::plan::{read_plan, Plan};
 
 /// Reads the plan at `path` and its network (`network` when given, else
 /// the path the plan records), and checks that they belong together.
-pub(super) fn open_plan(path: &Path, network: Option<&Path>) -> Result<(Plan, Network)> {
+pub fn open_plan(path: &Path, network: Option<&Path>) -> Result<(Plan, Network)> {
     let plan = read_plan(path)?;
     let net_path = network
         .map(Path::to_path_buf)
         .unwrap_or_else(|| plan.network_path_from(path));
     let net = formats::load(&net_path, &LoadOptions::default()).map_err(|e| match e {
-        Error::Io { .. } if network.is_none() => Error::usage(format!(
-            "{e}; the plan {} refers to this network file; give --network if it has moved",
-            path.display()
-        )),
+        Error::Io { .. } if network.is_none() => Error::invalid(
+            "network",
+            format!(
+                "{e}; the plan {} refers to this network file; if it has moved, give its new path",
+                path.display()
+            ),
+        ),
         other => other,
     })?;
     plan.check_against(&net).map_err(|e| {
