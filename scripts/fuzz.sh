@@ -50,7 +50,7 @@ if ! cargo fuzz --version >/dev/null 2>&1; then
 fi
 
 corpus_dir=""
-for c in "${SLICEPLAN_CORPUS:-}" ../shared/corpus ../../shared/corpus /work/shared/corpus; do
+for c in "${SLICEPLAN_CORPUS:-}" ../shared/corpus ../../shared/corpus; do
     if [ -n "$c" ] && [ -d "$c" ]; then corpus_dir=$c; break; fi
 done
 

@@ -126,9 +126,16 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
         Some(d) if !d.as_os_str().is_empty() => d,
         _ => Path::new("."),
     };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".sliceplan-")
-        .suffix(".tmp")
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(".sliceplan-").suffix(".tmp");
+    // Created as a normal file would be (0666 less the umask), not 0600:
+    // plans and job directories are shared on cluster file systems.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        builder.permissions(std::fs::Permissions::from_mode(0o666));
+    }
+    let mut tmp = builder
         .tempfile_in(dir)
         .map_err(|e| Error::write(path, e))?;
     tmp.write_all(bytes).map_err(|e| Error::write(path, e))?;
@@ -146,6 +153,23 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 
 #[cfg(test)]
 mod tests {
+    #[cfg(unix)]
+    #[test]
+    fn written_files_follow_the_umask() {
+        use std::os::unix::fs::PermissionsExt;
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("x.toml");
+        super::write_atomic(&path, b"x").unwrap();
+        let mode = std::fs::metadata(&path).unwrap().permissions().mode() & 0o777;
+        // The process umask, read by setting and restoring it.
+        let umask = unsafe {
+            let m = libc::umask(0o022);
+            libc::umask(m);
+            m
+        } as u32;
+        assert_eq!(mode, 0o666 & !umask, "mode {mode:o}, umask {umask:o}");
+    }
+
     #[test]
     fn text_drops_a_byte_order_mark_and_refuses_binary() {
         let t = super::text_from_bytes(b"\xef\xbb\xbfp cnf 1 1\n1 0\n".to_vec(), "f.cnf").unwrap();

@@ -168,6 +168,17 @@ impl Ord for Ordered {
     }
 }
 
+/// The overhead of `sliced_log2` ops over `unsliced_log2` ops (both log2):
+/// their ratio, and 1 when both are zero ops (a network of one tensor has
+/// nothing to contract, sliced or not).
+pub fn overhead(sliced_log2: f64, unsliced_log2: f64) -> f64 {
+    if sliced_log2 == f64::NEG_INFINITY && unsliced_log2 == f64::NEG_INFINITY {
+        1.0
+    } else {
+        (sliced_log2 - unsliced_log2).exp2()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -141,9 +141,6 @@ fn domino_tilings_of_the_8x8_board() {
 
 #[test]
 fn corpus_model_count() {
-    if !formats_util::corpus_present("corpus_model_count") {
-        return;
-    }
     // Corpus cnf/reference-counts.json: uf20-01 has 8 models (four
     // independent methods agree).
     let path = formats_util::corpus().join("cnf/uf20-91/uf20-01.cnf");
@@ -155,9 +152,6 @@ fn corpus_model_count() {
 
 #[test]
 fn corpus_circuit_amplitudes() {
-    if !formats_util::corpus_present("corpus_circuit_amplitudes") {
-        return;
-    }
     // Corpus qasm/reference-amplitudes.json: statevector amplitudes of
     // small circuits from an independent library (same gate convention,
     // no phase factor). All qubits open, so open indices are sliced too.

@@ -34,9 +34,6 @@ fn network_count(text: &str) -> (f64, Cnf) {
 
 #[test]
 fn corpus_satlib_counts() {
-    if !formats_util::corpus_present("corpus_satlib_counts") {
-        return;
-    }
     let text = std::fs::read_to_string(corpus().join("cnf/reference-counts.json")).unwrap();
     let records: Vec<Value> = serde_json::from_str(&text).unwrap();
     let mut checked = 0;

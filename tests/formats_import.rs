@@ -43,9 +43,6 @@ fn round_trip(net: &Network, dir: &Path, name: &str, inline_max: usize) -> usize
 
 #[test]
 fn every_input_kind_round_trips() {
-    if !formats_util::corpus_present("every_input_kind_round_trips") {
-        return;
-    }
     let dir = tempfile::tempdir().unwrap();
     let qasm = corpus().join("qasm/small/qft_n4.qasm");
     let spec = AmplitudeSpec {
@@ -100,9 +97,6 @@ fn every_input_kind_round_trips() {
 
 #[test]
 fn import_command_writes_a_network_other_commands_read() {
-    if !formats_util::corpus_present("import_command_writes_a_network_other_commands_read") {
-        return;
-    }
     let dir = tempfile::tempdir().unwrap();
     let qasm = corpus().join("qasm/small/adder_n4.qasm");
     let q = qasm.to_str().unwrap();

@@ -120,9 +120,6 @@ fn check_records(range: std::ops::Range<f64>) -> usize {
 
 #[test]
 fn corpus_amplitudes_of_small_circuits() {
-    if !formats_util::corpus_present("corpus_amplitudes_of_small_circuits") {
-        return;
-    }
     let checked = check_records(0.0..3e6);
     assert!(checked >= 60, "only {checked} records were cheap enough");
 }
@@ -130,17 +127,11 @@ fn corpus_amplitudes_of_small_circuits() {
 #[test]
 #[ignore = "minutes in a debug build: run scripts/long-tests.sh (release)"]
 fn corpus_amplitudes_of_large_circuits() {
-    if !formats_util::corpus_present("corpus_amplitudes_of_large_circuits") {
-        return;
-    }
     check_records(3e6..f64::INFINITY);
 }
 
 #[test]
 fn closed_networks_agree_with_the_open_one() {
-    if !formats_util::corpus_present("closed_networks_agree_with_the_open_one") {
-        return;
-    }
     // Source: corpus reference-amplitudes.json, through the bitstring form.
     for file in [
         "small/adder_n4_transpiled.qasm",
@@ -184,9 +175,6 @@ fn qasm_files(dir: &Path, out: &mut Vec<PathBuf>) {
 
 #[test]
 fn every_corpus_file_imports_or_says_what_is_not_supported() {
-    if !formats_util::corpus_present("every_corpus_file_imports_or_says_what_is_not_supported") {
-        return;
-    }
     let root = corpus().join("qasm");
     let features = features();
     let mut files = Vec::new();

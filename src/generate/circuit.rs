@@ -29,9 +29,22 @@ use crate::formats::qasm::gates;
 /// assert!(net.has_values());
 /// ```
 pub fn brickwork_circuit(rows: usize, cols: usize, depth: usize, seed: u64) -> Result<Circuit> {
-    if rows * cols < 2 {
-        return Err(Error::usage(
+    let qubits = rows.saturating_mul(cols);
+    if qubits < 2 {
+        return Err(Error::invalid(
+            "rows",
             "a brickwork circuit needs at least two qubits",
+        ));
+    }
+    // Each layer holds at most qubits/2 gates of one tensor each.
+    let gates = depth.saturating_mul(qubits / 2);
+    let max = crate::network::MAX_TENSORS;
+    if qubits > 1 << 20 || gates > max {
+        return Err(Error::invalid(
+            "depth",
+            format!(
+                "a {rows}x{cols} grid of depth {depth} is too large: at most 2^20 qubits and {max} gates"
+            ),
         ));
     }
     let mut order_rng = ChaCha8Rng::seed_from_u64(seed);

@@ -12,7 +12,7 @@ pub mod ising;
 pub mod values;
 
 use rand::seq::SliceRandom;
-use rand::SeedableRng;
+use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use crate::error::{Error, Result};
@@ -45,7 +45,11 @@ pub fn lattice(shape: &[usize], bond: u64, periodic: bool) -> Result<Network> {
             "{label}: periodic sides must be at least 3"
         )));
     }
-    let sites: usize = shape.iter().product();
+    let sites = checked_count(
+        &label,
+        "sites",
+        shape.iter().try_fold(1usize, |a, &s| a.checked_mul(s)),
+    )?;
     let coords = |mut s: usize| -> Vec<usize> {
         let mut c = vec![0; shape.len()];
         for k in (0..shape.len()).rev() {
@@ -124,29 +128,86 @@ pub fn matrix_chain(dims: &[u64]) -> Result<Network> {
 /// Expected time O(n·degree·e^((degree²-1)/4)); fine for degree ≤ 4.
 pub fn random_regular_graph(n: usize, degree: usize, seed: u64) -> Result<Vec<(usize, usize)>> {
     if degree >= n || (n * degree) % 2 == 1 {
-        return Err(Error::usage(format!(
-            "no simple {degree}-regular graph on {n} vertices: need degree < n and n*degree even"
-        )));
+        return Err(Error::invalid(
+            "degree",
+            format!(
+                "no simple {degree}-regular graph on {n} vertices: need degree < n and n*degree even"
+            ),
+        ));
     }
+    checked_count("regular graph", "vertices", Some(n))?;
+    checked_count(
+        "regular graph",
+        "edges",
+        n.checked_mul(degree).map(|e| e / 2),
+    )?;
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
-    let mut points: Vec<usize> = (0..n)
-        .flat_map(|v| std::iter::repeat_n(v, degree))
-        .collect();
-    for _attempt in 0..10_000 {
-        points.shuffle(&mut rng);
-        let mut edges: Vec<(usize, usize)> = points
-            .chunks(2)
-            .map(|p| (p[0].min(p[1]), p[0].max(p[1])))
-            .collect();
-        edges.sort_unstable();
-        let simple = edges.iter().all(|&(a, b)| a != b) && edges.windows(2).all(|w| w[0] != w[1]);
-        if simple {
-            return Ok(edges);
+    let mut edges = circulant(n, degree);
+    // Degree-preserving double-edge swaps (the switch Markov chain): pick
+    // edges a-b and c-d, rewire to a-d and c-b (or a-c and b-d) when that
+    // keeps the graph simple. Ten swaps per edge mix the start well for
+    // demos and benchmarks (common practice; not a proof of uniformity).
+    let mut present: std::collections::HashSet<(usize, usize)> = edges.iter().copied().collect();
+    let m = edges.len();
+    for _ in 0..10 * m {
+        let (i, j) = (rng.random_range(0..m), rng.random_range(0..m));
+        if i == j {
+            continue;
+        }
+        let ((a, b), (c, d)) = (edges[i], edges[j]);
+        let (x, y) = if rng.random_bool(0.5) {
+            ((a, d), (c, b))
+        } else {
+            ((a, c), (b, d))
+        };
+        let key = |(u, v): (usize, usize)| (u.min(v), u.max(v));
+        let (x, y) = (key(x), key(y));
+        if x.0 == x.1 || y.0 == y.1 || x == y || present.contains(&x) || present.contains(&y) {
+            continue;
+        }
+        present.remove(&edges[i]);
+        present.remove(&edges[j]);
+        present.insert(x);
+        present.insert(y);
+        edges[i] = x;
+        edges[j] = y;
+    }
+    edges.sort_unstable();
+    Ok(edges)
+}
+
+/// A simple `degree`-regular graph on `n` vertices (degree < n, n x degree
+/// even): vertex i joins i +- 1, ..., i +- degree/2 around a circle, and,
+/// for an odd degree (so n is even), the opposite vertex i + n/2.
+fn circulant(n: usize, degree: usize) -> Vec<(usize, usize)> {
+    let mut edges = Vec::with_capacity(n * degree / 2);
+    for i in 0..n {
+        for k in 1..=degree / 2 {
+            let j = (i + k) % n;
+            edges.push((i.min(j), i.max(j)));
+        }
+        if degree % 2 == 1 && i < n / 2 {
+            edges.push((i, i + n / 2));
         }
     }
-    Err(Error::Cannot(format!(
-        "could not draw a simple {degree}-regular graph on {n} vertices"
-    )))
+    edges
+}
+
+/// `count` items of a generated network, refused past
+/// [`crate::network::MAX_TENSORS`] (or when the count overflows) before
+/// anything is allocated.
+fn checked_count(label: &str, what: &str, count: Option<usize>) -> Result<usize> {
+    let max = crate::network::MAX_TENSORS;
+    match count {
+        Some(n) if n <= max => Ok(n),
+        _ => Err(Error::invalid(
+            "shape",
+            format!(
+                "{label}: {} {what}; a network holds at most {max} tensors",
+                count.map_or_else(|| "more than 2^64".to_string(), |n| n.to_string())
+            ),
+        )),
+    }
 }
 
 /// One tensor per vertex and one index of dimension `bond` per edge

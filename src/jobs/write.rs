@@ -251,9 +251,18 @@ pub(crate) fn write_script(path: &Path, text: &str) -> Result<PathBuf> {
     crate::io::write_atomic(path, text.as_bytes())?;
     #[cfg(unix)]
     {
+        // Executable by whoever may read it (the umask already shaped the
+        // read bits), as `chmod +x` would do.
         use std::os::unix::fs::PermissionsExt;
-        std::fs::set_permissions(path, std::fs::Permissions::from_mode(0o755))
-            .map_err(|e| Error::write(path, e))?;
+        let mode = std::fs::metadata(path)
+            .map_err(|e| Error::write(path, e))?
+            .permissions()
+            .mode();
+        std::fs::set_permissions(
+            path,
+            std::fs::Permissions::from_mode(mode | ((mode & 0o444) >> 2)),
+        )
+        .map_err(|e| Error::write(path, e))?;
     }
     Ok(path.to_path_buf())
 }

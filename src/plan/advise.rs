@@ -175,7 +175,7 @@ pub fn make_plan(
     // The overhead is against the starting tree's unsliced ops (the search's
     // best), which co-optimisation may have replaced.
     let baseline = advice.result.unsliced.total_ops.log2;
-    plan.predicted.overhead = (point.total_ops.log2 - baseline).exp2();
+    plan.predicted.overhead = crate::num::overhead(point.total_ops.log2, baseline);
     plan.predicted.baseline_total_ops_log2 = baseline;
     plan.predicted.found_by = serde_json::to_value(origin)
         .ok()

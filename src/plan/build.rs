@@ -72,7 +72,7 @@ impl Plan {
                 per_slice_width: s.per_slice.width,
                 per_slice_peak_bytes: peak_bytes.to_json_string(),
                 total_ops_log2: s.total_ops.log2,
-                overhead: (s.total_ops.log2 - whole.total_ops.log2).exp2(),
+                overhead: crate::num::overhead(s.total_ops.log2, whole.total_ops.log2),
                 baseline_total_ops_log2: whole.total_ops.log2,
                 found_by: String::new(),
                 tree_source: String::new(),

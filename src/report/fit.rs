@@ -5,7 +5,7 @@ use serde::Serialize;
 
 use super::inspect::TreeReport;
 use super::plan::SearchReport;
-use super::{group_decimal, log2_str, Table};
+use super::{group_decimal, log2_str, ops_str, Table};
 use crate::cost::bytes::bytes_human;
 use crate::cost::machine::{Estimate, ESTIMATE_METHOD};
 use crate::cost::memory::MemoryNeed;
@@ -179,7 +179,7 @@ impl FitReport {
                 },
                 total_ops: p.total_ops.to_json_string(),
                 total_ops_log2: p.total_ops.log2,
-                overhead: (p.total_ops.log2 - r.unsliced.total_ops.log2).exp2(),
+                overhead: crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2),
                 found_by: *origin,
                 fewest_slices_found: r.fewest_slices.as_ref().map(|f| f.slices.to_json_string()),
             });
@@ -250,9 +250,9 @@ impl FitReport {
             .map(|b| format!("; no tree has width below {}", log2_str(b.width)))
             .unwrap_or_default();
         out.push_str(&format!(
-            "tree      {}: total ops 2^{}, width {}{bound}, peak {} unsliced\n",
+            "tree      {}: total ops {}, width {}{bound}, peak {} unsliced\n",
             t.source,
-            log2_str(t.total_ops_log2),
+            ops_str(t.total_ops_log2),
             log2_str(t.width),
             bytes_human(self.memory_unsliced_hint()),
         ));
@@ -276,12 +276,12 @@ impl FitReport {
         ));
         if let Some(s) = &self.slicing {
             out.push_str(&format!(
-                "sliced    {} ({} slices); per slice 2^{} ops, width {}; total 2^{} ops, overhead {:.3}x (found by {})\n",
+                "sliced    {} ({} slices); per slice {} ops, width {}; total {} ops, overhead {:.3}x (found by {})\n",
                 s.indices.join(", "),
                 group_decimal(&s.slices),
-                log2_str(s.per_slice.total_ops_log2),
+                ops_str(s.per_slice.total_ops_log2),
                 log2_str(s.per_slice.width),
-                log2_str(s.total_ops_log2),
+                ops_str(s.total_ops_log2),
                 s.overhead,
                 origin_name(s.found_by)
             ));
@@ -371,7 +371,7 @@ fn verdict(head: &Advice, fits_without: bool, budget: u64) -> String {
         Some((p, _)) => format!(
             "FITS with {} slices at overhead {:.3}x (unsliced it needs {}, over the {} budget)",
             group_decimal(&p.slices.to_json_string()),
-            (p.total_ops.log2 - r.unsliced.total_ops.log2).exp2(),
+            crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2),
             bytes_human(need),
             bytes_human(budget as f64)
         ),
@@ -411,7 +411,7 @@ fn machine_row(a: &Advice) -> MachineRow {
         overhead: r
             .chosen
             .as_ref()
-            .map(|(p, _)| (p.total_ops.log2 - r.unsliced.total_ops.log2).exp2()),
+            .map(|(p, _)| crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2)),
         estimate: a.estimate.clone(),
     }
 }
@@ -434,7 +434,7 @@ pub fn frontier_table(rows: &[FrontierRow], budget: u64) -> String {
             bytes_human(r.per_slice_peak_bytes),
             bytes_human(r.process_bytes),
             yes_no(r.process_bytes <= budget as f64).to_string(),
-            format!("2^{}", log2_str(r.total_ops_log2)),
+            ops_str(r.total_ops_log2),
             format!("{:.3}x", r.overhead),
         ]);
     }

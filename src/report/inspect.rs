@@ -2,7 +2,7 @@
 
 use serde::Serialize;
 
-use super::{group_decimal, log2_str, pow2_human, Table};
+use super::{group_decimal, log2_str, ops_str, pow2_human, Table};
 use crate::cost::{Metrics, NodeRow, Sliced};
 use crate::network::{Dtype, Summary};
 use crate::num::Count;
@@ -83,7 +83,7 @@ impl SlicedReport {
             per_slice: TreeReport::new("per slice", &s.per_slice, dtype),
             total_ops: s.total_ops.to_json_string(),
             total_ops_log2: s.total_ops.log2,
-            overhead: (s.total_ops.log2 - unsliced.total_ops.log2).exp2(),
+            overhead: crate::num::overhead(s.total_ops.log2, unsliced.total_ops.log2),
         }
     }
 }
@@ -201,9 +201,9 @@ impl InspectReport {
             out.push_str("  per slice:\n");
             out.push_str(&indent(&tree_lines(&s.per_slice), 2));
             out.push_str(&format!(
-                "  total ops   {} (2^{}), overhead {:.3}x\n",
+                "  total ops   {} ({}), overhead {:.3}x\n",
                 group_decimal(&s.total_ops),
-                log2_str(s.total_ops_log2),
+                ops_str(s.total_ops_log2),
                 s.overhead
             ));
         }
@@ -240,9 +240,9 @@ impl InspectReport {
 
 pub(crate) fn tree_lines(t: &TreeReport) -> String {
     format!(
-        "  total ops   {} (2^{}); real flops = {} x ops for {}\n  width       {}  (largest intermediate, log2 elements)\n  op width    {}  (largest single contraction, log2 ops)\n  peak        {} elements = {} bytes as {} (best traversal)\n  height      {}  (contraction rounds with unlimited parallelism)\n",
+        "  total ops   {} ({}); real flops = {} x ops for {}\n  width       {}  (largest intermediate, log2 elements)\n  op width    {}  (largest single contraction, log2 ops)\n  peak        {} elements = {} bytes as {} (best traversal)\n  height      {}  (contraction rounds with unlimited parallelism)\n",
         group_decimal(&t.total_ops),
-        log2_str(t.total_ops_log2),
+        ops_str(t.total_ops_log2),
         t.flops_per_op,
         t.dtype,
         log2_str(t.width),

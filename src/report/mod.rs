@@ -27,6 +27,16 @@ pub fn log2_str(x: f64) -> String {
     }
 }
 
+/// Formats a count of ops given as log2: `2^12.51`, or `0` when there is
+/// nothing to contract (a single tensor).
+pub fn ops_str(log2: f64) -> String {
+    if log2.is_finite() {
+        format!("2^{log2:.2}")
+    } else {
+        "0".into()
+    }
+}
+
 /// Formats an element or byte count given as log2 in human units,
 /// e.g. `2^33.00 = 8.00 Gi`.
 pub fn pow2_human(log2: f64) -> String {

@@ -55,7 +55,7 @@ pub fn frontier(points: &[Point], unsliced_ops: Count, limit_log2: f64) -> Vec<F
             slices_log2: p.slices.log2,
             per_slice_peak_bytes: p.per_slice_peak_bytes(),
             total_ops_log2: p.total_ops.log2,
-            overhead: (p.total_ops.log2 - unsliced_ops.log2).exp2(),
+            overhead: crate::num::overhead(p.total_ops.log2, unsliced_ops.log2),
             process_bytes: p.need.total_bytes(),
         });
     }

@@ -154,6 +154,12 @@ fn atom(cur: &mut Cursor, params: &[String]) -> Result<Expr> {
             cur.bump();
             Ok(Expr::Num(x))
         }
+        Tok::Huge(t) => {
+            // A parameter may be any real number; a huge literal is one.
+            let x: f64 = t.parse().unwrap_or(f64::INFINITY);
+            cur.bump();
+            Ok(Expr::Num(x))
+        }
         Tok::Real(x) => {
             let x = *x;
             cur.bump();

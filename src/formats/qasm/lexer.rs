@@ -15,6 +15,9 @@ pub enum Tok {
     Int(u64),
     /// A number with a fraction or an exponent.
     Real(f64),
+    /// A whole number too large for 64 bits (refused where a whole number
+    /// is needed, so an unsupported statement around it is named first).
+    Huge(String),
     /// A quoted string (for `include`).
     Str(String),
     /// Punctuation or an operator: `; , ( ) [ ] { } + - * / ^ -> ==`.
@@ -30,6 +33,7 @@ impl Tok {
             Tok::Ident(s) => format!("'{s}'"),
             Tok::Int(n) => format!("'{n}'"),
             Tok::Real(x) => format!("'{x}'"),
+            Tok::Huge(t) => format!("'{t}'"),
             Tok::Str(s) => format!("\"{s}\""),
             Tok::Sym(s) => format!("'{s}'"),
             Tok::Eof => "the end of the file".to_string(),
@@ -183,10 +187,10 @@ fn number(chars: &[char], mut i: usize) -> std::result::Result<(Tok, usize), Str
             .map_err(|_| format!("'{text}' is not a valid number"))?;
         Ok((Tok::Real(x), i))
     } else {
-        let n: u64 = text
-            .parse()
-            .map_err(|_| format!("'{text}' is too large for a whole number"))?;
-        Ok((Tok::Int(n), i))
+        match text.parse::<u64>() {
+            Ok(n) => Ok((Tok::Int(n), i)),
+            Err(_) => Ok((Tok::Huge(text), i)),
+        }
     }
 }
 
@@ -276,6 +280,9 @@ impl<'a> Cursor<'a> {
             Tok::Int(n) => {
                 self.bump();
                 Ok(*n)
+            }
+            Tok::Huge(t) => {
+                Err(self.error(format!("'{t}' is too large for a whole number ({what})")))
             }
             other => Err(self.error(format!(
                 "expected {what} (a whole number), found {}",
