@@ -17,6 +17,9 @@ pub enum NetworkSource {
         /// Format, circuit and graph options.
         load: LoadOptions,
     },
+    /// A network already in memory (built by a generator or by the
+    /// caller).
+    Memory(Box<Network>),
     /// An einsum equation with index dimensions.
     Einsum {
         /// The equation, e.g. `ab,bc->ac`.
@@ -55,6 +58,7 @@ impl NetworkSource {
                 dim,
                 dims,
             } => einsum::network_from_einsum(equation, *dim, dims),
+            NetworkSource::Memory(net) => Ok((**net).clone()),
         }
     }
 
@@ -62,7 +66,7 @@ impl NetworkSource {
     pub fn path(&self) -> Option<&Path> {
         match self {
             NetworkSource::File { path, .. } => Some(path),
-            NetworkSource::Einsum { .. } => None,
+            NetworkSource::Einsum { .. } | NetworkSource::Memory(_) => None,
         }
     }
 
@@ -74,7 +78,7 @@ impl NetworkSource {
                 let format = load.format.or_else(|| Format::from_path(path));
                 (format == Some(Format::Native)).then_some(path.as_path())
             }
-            NetworkSource::Einsum { .. } => None,
+            NetworkSource::Einsum { .. } | NetworkSource::Memory(_) => None,
         }
     }
 }

@@ -94,8 +94,10 @@ pub fn steps(net: &Network, plan: &Plan) -> Result<Steps> {
     let sets = NodeSets::new(net, &tree);
     let open = net.open_mask();
     let name = |e: usize| net.indices[e].name.clone();
-    // Layout of every node: inputs keep their storage order, results the
-    // sorted order of the node's index set; sliced indices dropped.
+    // Layout of every node, by node number (leaf t, merge k at n + k):
+    // inputs keep their storage order, results the sorted order of the
+    // node's index set; sliced indices dropped. Merges run in the plan's
+    // traversal order, so a result is stored at its own node number.
     let mut layout: Vec<Vec<usize>> = net
         .tensors
         .iter()
@@ -108,6 +110,7 @@ pub fn steps(net: &Network, plan: &Plan) -> Result<Steps> {
         })
         .collect();
     let n = net.num_tensors();
+    layout.resize(n + tree.merges().len(), Vec::new());
     let mut list: Vec<usize> = (0..n).collect();
     let mut steps = Vec::with_capacity(plan.order.len());
     for &k in &plan.order {
@@ -150,7 +153,7 @@ pub fn steps(net: &Network, plan: &Plan) -> Result<Steps> {
         });
         list.retain(|&x| x != a && x != b);
         list.push(v);
-        layout.push(result);
+        layout[v] = result;
     }
     let root = tree.root();
     let last = layout[root].clone();
