@@ -17,6 +17,9 @@ pub const EXIT_OK: u8 = 0;
 pub const EXIT_CANNOT: u8 = 1;
 /// Exit code for bad input or usage.
 pub const EXIT_BAD_INPUT: u8 = 2;
+/// Exit code when a plan fits but is impractical (too many slices or too
+/// much wall time for the target's limits).
+pub const EXIT_IMPRACTICAL: u8 = 3;
 
 /// Where in the input an error was found.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]

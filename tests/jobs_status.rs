@@ -35,7 +35,7 @@ fn status_names_each_missing_chunk_and_resubmission_completes_the_job() {
     assert_eq!(code, Some(0), "{err}");
 
     // Nothing ran yet: all 8 missing, never started.
-    let st = job_status(&dir).unwrap();
+    let st = job_status(&dir, None).unwrap();
     assert_eq!(st.missing, (0..8).collect::<Vec<_>>());
     assert!(st
         .missing_detail
@@ -56,7 +56,7 @@ fn status_names_each_missing_chunk_and_resubmission_completes_the_job() {
     let (code, stdout, _) = sliceplan(&[os("jobs"), os("--status"), dir.as_os_str()]);
     assert_eq!(code, Some(1), "{stdout}");
     assert!(
-        stdout.contains("5 of 8 chunks done; missing 3: 2,5-6"),
+        stdout.contains("5 of 8 chunks done; to resubmit 3: 2,5-6"),
         "{stdout}"
     );
     // Chunk 2 of 8 over 16 slices is slices 4..6 (chunk_range, closed form).
@@ -183,5 +183,91 @@ fn status_of_a_directory_without_a_manifest_names_the_file() {
     assert!(
         err.contains(&*Path::new("manifest.toml").display().to_string()),
         "{err}"
+    );
+}
+
+/// Runs `sliceplan jobs --status DIR` with `path_dir` first on PATH.
+fn status_with_path(dir: &Path, path_dir: &Path) -> (Option<i32>, String) {
+    let path = format!(
+        "{}:{}",
+        path_dir.display(),
+        std::env::var("PATH").unwrap_or_default()
+    );
+    let out = Command::new(env!("CARGO_BIN_EXE_sliceplan"))
+        .args([os("jobs"), os("--status"), dir.as_os_str()])
+        .env("PATH", path)
+        .output()
+        .unwrap();
+    (
+        out.status.code(),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+    )
+}
+
+/// Regression: one second after `sbatch`, status called every chunk "not
+/// started", wrote resubmit.sbatch for all of them and advised submitting
+/// it, which would run every chunk twice. Now the scheduler is asked
+/// (`squeue`, here a stand-in script printing what Slurm prints for an
+/// array with one task running and the rest pending).
+#[test]
+fn chunks_the_scheduler_holds_are_never_resubmitted() {
+    let tmp = tempfile::tempdir().unwrap();
+    let base = tmp.path().canonicalize().unwrap();
+    let plan = write_grid_plan(&base.join("in"), 6, 4, Some(1.0));
+    let dir = base.join("job");
+    let (code, _, err) = sliceplan(&[
+        os("jobs"),
+        plan.as_os_str(),
+        os("--out"),
+        dir.as_os_str(),
+        os("--chunks"),
+        os("8"),
+    ]);
+    assert_eq!(code, Some(0), "{err}");
+    let fake = base.join("fake-slurm");
+    std::fs::create_dir_all(&fake).unwrap();
+    let squeue = fake.join("squeue");
+    // squeue's array notation: task 0 running, tasks 1-5 and 7 pending.
+    std::fs::write(
+        &squeue,
+        "#!/bin/sh\necho '41_0 R'\necho '41_[1-5,7%4] PD'\n",
+    )
+    .unwrap();
+    use std::os::unix::fs::PermissionsExt;
+    std::fs::set_permissions(&squeue, std::fs::Permissions::from_mode(0o755)).unwrap();
+    let (code, stdout) = status_with_path(&dir, &fake);
+    assert_eq!(code, Some(1), "{stdout}");
+    assert!(
+        stdout.contains("0 of 8 chunks done; to resubmit 1: 6; queued or running 7: 0-5,7"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("chunk 0 (slices 0..2): running now"),
+        "{stdout}"
+    );
+    let text = std::fs::read_to_string(dir.join("resubmit.sbatch")).unwrap();
+    assert_eq!(option(&options(&text), "array"), Some("6"));
+    // Every task held: nothing to resubmit, and no script left behind.
+    std::fs::write(&squeue, "#!/bin/sh\necho '41_[0-7%4] PD'\n").unwrap();
+    let (_, stdout) = status_with_path(&dir, &fake);
+    assert!(
+        stdout.contains("nothing to resubmit: wait for the queued and running chunks"),
+        "{stdout}"
+    );
+    assert!(!dir.join("resubmit.sbatch").exists());
+    // No squeue at all: the status says what it cannot know.
+    std::fs::remove_file(&squeue).unwrap();
+    let empty = base.join("no-slurm");
+    std::fs::create_dir_all(&empty).unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_sliceplan"))
+        .args([os("jobs"), os("--status"), dir.as_os_str()])
+        .env("PATH", &empty)
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        stdout.contains("the scheduler could not be asked")
+            && stdout.contains("if none of those chunks is queued or running, resubmit with"),
+        "{stdout}"
     );
 }

@@ -44,12 +44,12 @@ pub(super) fn search_bars(tree: &TreeChoice) -> Bars {
     }
 }
 
-/// 0 when it fits, 1 when it cannot.
+/// 0 when it fits, 1 when it cannot, 3 when it fits but is impractical.
 pub(super) fn exit_code(report: &FitReport) -> u8 {
-    if report.fits {
-        0
-    } else {
-        EXIT_CANNOT
+    match (report.fits, report.practical) {
+        (true, true) => 0,
+        (true, false) => sliceplan::error::EXIT_IMPRACTICAL,
+        (false, _) => EXIT_CANNOT,
     }
 }
 

@@ -51,7 +51,7 @@ pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
         output: args.output,
         network: args.network,
     };
-    let g = gather(&opts)?;
+    let g = gather(&opts, &mut sliceplan::jobs::Slurm::default())?;
     let code = if g.complete() { 0 } else { EXIT_CANNOT };
     Ok(Outcome::render(args.json, &g, gathered_text(&g), code))
 }

@@ -65,6 +65,11 @@ pub struct JobsArgs {
     #[arg(long, value_name = "C")]
     cpus_per_task: Option<u64>,
 
+    /// The partition's time limit per task (HH:MM:SS or D-HH:MM:SS): a
+    /// longer --time gets a warning with the chunk count that would fit.
+    #[arg(long, value_name = "HH:MM:SS")]
+    max_time: Option<String>,
+
     /// The sliceplan binary the tasks run (default: this one).
     #[arg(long, value_name = "PATH")]
     binary: Option<PathBuf>,
@@ -76,7 +81,7 @@ pub struct JobsArgs {
     /// Report the chunks of a job directory that are not done and write DIR/resubmit.sbatch.
     #[arg(long, value_name = "DIR", conflicts_with_all = [
         "plan", "out", "chunks", "slices_per_task", "max_running", "partition", "account",
-        "cpus_per_task", "binary", "network",
+        "cpus_per_task", "binary", "network", "max_time",
     ])]
     status: Option<PathBuf>,
 
@@ -119,6 +124,15 @@ impl JobsArgs {
             time: TimeChoice::parse(&self.time_per_task)?,
             mem: MemChoice::parse(&self.mem)?,
             cpus_per_task: self.cpus_per_task,
+            max_time: self
+                .max_time
+                .as_deref()
+                .map(sliceplan::jobs::resources::parse_duration)
+                .transpose()
+                .map_err(|e| match e {
+                    Error::Invalid { message, .. } => Error::invalid("max_time", message),
+                    other => other,
+                })?,
             binary,
             force: self.force,
         };

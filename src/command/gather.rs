@@ -8,6 +8,7 @@ use serde::Serialize;
 use super::{check_optional_output, open_plan};
 use crate::error::Result;
 use crate::exec::report::{IncompleteReport, ResultReport};
+use crate::jobs::Scheduler;
 
 /// Options of `gather`.
 #[derive(Debug, Clone, Default)]
@@ -46,12 +47,20 @@ impl GatherOutcome {
     }
 }
 
-/// Runs `gather`.
-pub fn gather(opts: &GatherOptions) -> Result<GatherOutcome> {
+/// Runs `gather`. When the partials belong to a job directory, the
+/// scheduler is asked which of the missing chunks it still holds, so the
+/// resubmission leaves those out.
+pub fn gather(opts: &GatherOptions, scheduler: &mut dyn Scheduler) -> Result<GatherOutcome> {
     check_optional_output(opts.output.as_deref(), "output")?;
     let (plan, net) = open_plan(&opts.plan, opts.network.as_deref())?;
     let gathered = crate::exec::gather(&plan, &net, &opts.dir)?;
-    finish(gathered, opts.output.as_deref(), &opts.plan, &opts.dir)
+    finish(
+        gathered,
+        opts.output.as_deref(),
+        &opts.plan,
+        &opts.dir,
+        Some(scheduler),
+    )
 }
 
 /// Writes the `.npy` of a complete result, or refreshes the job
@@ -62,6 +71,7 @@ pub(super) fn finish(
     output: Option<&Path>,
     plan_path: &Path,
     dir: &Path,
+    scheduler: Option<&mut dyn Scheduler>,
 ) -> Result<GatherOutcome> {
     match gathered {
         crate::exec::GatherOutcome::Complete(g) => {
@@ -79,7 +89,7 @@ pub(super) fn finish(
                 &plan_path.display().to_string(),
                 &dir.display().to_string(),
             );
-            r.resubmit_script = resubmission(dir)?;
+            r.resubmit_script = resubmission(dir, scheduler)?;
             Ok(GatherOutcome::Incomplete(r))
         }
     }
@@ -88,13 +98,13 @@ pub(super) fn finish(
 /// When `dir` is the `partials` folder of a job directory written by
 /// `jobs`, refreshes that directory's `resubmit.sbatch` with exactly the
 /// missing chunks and returns its path.
-fn resubmission(dir: &Path) -> Result<Option<PathBuf>> {
+fn resubmission(dir: &Path, scheduler: Option<&mut dyn Scheduler>) -> Result<Option<PathBuf>> {
     let Some(job_dir) = dir.parent() else {
         return Ok(None);
     };
     if !job_dir.join(crate::jobs::MANIFEST_FILE).is_file() {
         return Ok(None);
     }
-    let status = crate::jobs::job_status(job_dir)?;
+    let status = crate::jobs::job_status(job_dir, scheduler)?;
     crate::jobs::refresh_resubmit(job_dir, &status)
 }

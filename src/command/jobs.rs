@@ -81,7 +81,7 @@ impl StatusOutcome {
 /// `resubmit.sbatch` for the ones that should run again, and submits it
 /// when asked.
 pub fn status(dir: &Path, submit: bool, scheduler: &mut dyn Scheduler) -> Result<StatusOutcome> {
-    let status = job_status(dir)?;
+    let status = job_status(dir, Some(&mut *scheduler))?;
     let resubmit = refresh_resubmit(dir, &status)?;
     let submitted_job = match (&resubmit, submit) {
         (Some(script), true) => Some(scheduler.submit(script)?),

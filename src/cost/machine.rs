@@ -34,6 +34,33 @@ struct MachineFile {
     cores: u64,
     bandwidth: String,
     rate: Rates,
+    #[serde(default)]
+    limits: Limits,
+}
+
+/// What counts as practical on a machine: beyond these a plan that fits is
+/// reported as impractical (and `fit` exits with its own code). Profiles
+/// may set them in a `[limits]` table.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields, default)]
+pub struct Limits {
+    /// The most slices a plan may have.
+    pub max_slices: f64,
+    /// The most wall-clock hours all slices may take on the machine's
+    /// nodes (by the model estimate).
+    pub max_wall_hours: f64,
+}
+
+impl Default for Limits {
+    /// A million slices and a week of wall time: rules of thumb for one
+    /// allocation (common practice, no source), stated in every report that
+    /// uses them.
+    fn default() -> Self {
+        Limits {
+            max_slices: 1e6,
+            max_wall_hours: 168.0,
+        }
+    }
 }
 
 /// Sustained multiply-adds per second for each dtype.
@@ -83,6 +110,8 @@ pub struct Machine {
     pub bandwidth: f64,
     /// Sustained multiply-adds per second.
     pub rate: Rates,
+    /// What counts as practical.
+    pub limits: Limits,
 }
 
 impl Machine {
@@ -124,6 +153,11 @@ impl Machine {
                 "slices_per_node, nodes and cores must be at least 1".into()
             ));
         }
+        if !(f.limits.max_slices >= 1.0 && f.limits.max_wall_hours > 0.0) {
+            return Err(bad(
+                "limits: max_slices must be at least 1 and max_wall_hours positive".into(),
+            ));
+        }
         if memory_bytes == 0 || bandwidth <= 0.0 {
             return Err(bad("memory and bandwidth must be positive".into()));
         }
@@ -149,6 +183,7 @@ impl Machine {
             cores: f.cores,
             bandwidth,
             rate: f.rate,
+            limits: f.limits,
         })
     }
 

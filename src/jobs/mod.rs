@@ -32,8 +32,10 @@ pub mod write;
 pub use crate::chunk::{chunk_range, partial_file_name};
 pub use manifest::{read_manifest, ChunkEntry, Manifest, TaskSettings};
 pub use resources::{MemChoice, TimeChoice};
-pub use scheduler::{wait_until_done, Scheduler, Slurm, StandIn};
-pub use status::{job_status, refresh_resubmit, write_resubmit, ChunkState, JobStatus};
+pub use scheduler::{wait_until_done, QueuedTask, Scheduler, Slurm, StandIn};
+pub use status::{
+    job_status, refresh_resubmit, write_resubmit, ChunkState, JobStatus, SchedulerAnswer,
+};
 pub use write::{write_jobs, ChunkChoice, JobOptions, WrittenJobs};
 
 /// File name of the manifest in a job directory.

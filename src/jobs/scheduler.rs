@@ -17,6 +17,51 @@ pub trait Scheduler {
     fn submit(&mut self, script: &Path) -> Result<String>;
     /// True while any task of the job is queued or running.
     fn active(&mut self, job: &str) -> Result<bool>;
+    /// The array tasks of jobs named `job_name` that are queued or
+    /// running now; `Err` with the reason when the scheduler cannot be
+    /// asked (its tools are not on this machine).
+    fn tasks(&mut self, job_name: &str) -> std::result::Result<Vec<QueuedTask>, String>;
+}
+
+/// An array task the scheduler holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct QueuedTask {
+    /// The array task id (the chunk id).
+    pub task: u64,
+    /// True when running (or completing), false when pending.
+    pub running: bool,
+}
+
+/// Parses `squeue --format "%i %t"` lines of array jobs: `176_3 R` (one
+/// task) or `176_[4-7,9%2] PD` (pending tasks grouped). Lines of other jobs
+/// (no `_`) are skipped.
+pub fn parse_squeue(text: &str) -> Vec<QueuedTask> {
+    let mut out = Vec::new();
+    for line in text.lines() {
+        let mut words = line.split_whitespace();
+        let (Some(id), Some(state)) = (words.next(), words.next()) else {
+            continue;
+        };
+        let Some((_, tasks)) = id.split_once('_') else {
+            continue;
+        };
+        let running = matches!(state, "R" | "CG" | "CF" | "S" | "ST");
+        let tasks = tasks.trim_start_matches('[').trim_end_matches(']');
+        let tasks = tasks.split('%').next().unwrap_or("");
+        for part in tasks.split(',') {
+            let range = match part.split_once('-') {
+                Some((a, b)) => a.parse::<u64>().ok().zip(b.parse::<u64>().ok()),
+                None => part.parse::<u64>().ok().map(|a| (a, a)),
+            };
+            if let Some((a, b)) = range {
+                out.extend(
+                    (a..=b.min(a.saturating_add(10_000_000)))
+                        .map(|task| QueuedTask { task, running }),
+                );
+            }
+        }
+    }
+    out
 }
 
 /// Waits until `job` has left the queue, polling every `poll`; after
@@ -111,6 +156,27 @@ impl Scheduler for Slurm {
         }
         Err(Error::Cannot(format!("squeue failed: {}", err.trim())))
     }
+
+    fn tasks(&mut self, job_name: &str) -> std::result::Result<Vec<QueuedTask>, String> {
+        let out = Command::new(&self.squeue)
+            .args([
+                "--noheader",
+                "--array",
+                "--name",
+                job_name,
+                "--format",
+                "%i %t",
+            ])
+            .output()
+            .map_err(|e| tool_error(&self.squeue, e).to_string())?;
+        if !out.status.success() {
+            return Err(format!(
+                "squeue failed: {}",
+                String::from_utf8_lossy(&out.stderr).trim()
+            ));
+        }
+        Ok(parse_squeue(&String::from_utf8_lossy(&out.stdout)))
+    }
 }
 
 /// One submission seen by the [`StandIn`].
@@ -141,6 +207,9 @@ pub struct StandIn {
     pub run_tasks: bool,
     /// Everything submitted so far.
     pub submissions: Vec<Submission>,
+    /// What [`Scheduler::tasks`] answers: tasks it holds, or the reason it
+    /// cannot be asked (`None` answers "nothing queued").
+    pub queued: Option<std::result::Result<Vec<QueuedTask>, String>>,
 }
 
 impl Scheduler for StandIn {
@@ -196,6 +265,10 @@ impl Scheduler for StandIn {
     fn active(&mut self, _job: &str) -> Result<bool> {
         Ok(false)
     }
+
+    fn tasks(&mut self, _job_name: &str) -> std::result::Result<Vec<QueuedTask>, String> {
+        self.queued.clone().unwrap_or(Ok(Vec::new()))
+    }
 }
 
 /// Expands a Slurm file-name pattern: `%a` task id, `%A` and `%j` job id,
@@ -237,6 +310,24 @@ mod tests {
             self.0 += 1;
             Ok(true)
         }
+        fn tasks(&mut self, _job_name: &str) -> std::result::Result<Vec<QueuedTask>, String> {
+            Ok(Vec::new())
+        }
+    }
+
+    #[test]
+    fn squeue_lines_give_tasks() {
+        // squeue's manual: array tasks print as JOBID_TASK, or pending
+        // tasks grouped as JOBID_[1-3,5%2]; %t is the short state.
+        let tasks = parse_squeue("176_3 R\n176_[4-6,9%4] PD\n177 PD\n");
+        let running: Vec<u64> = tasks.iter().filter(|t| t.running).map(|t| t.task).collect();
+        let pending: Vec<u64> = tasks
+            .iter()
+            .filter(|t| !t.running)
+            .map(|t| t.task)
+            .collect();
+        assert_eq!(running, vec![3]);
+        assert_eq!(pending, vec![4, 5, 6, 9]);
     }
 
     #[test]

@@ -15,6 +15,7 @@ use serde::Serialize;
 use super::array::array_spec;
 use super::manifest::{read_manifest, ChunkEntry, Manifest};
 use super::quote::{pattern_dir, script_path};
+use super::scheduler::Scheduler;
 use super::scripts::{sbatch_script, ScriptPaths};
 use super::write::write_script;
 use super::RESUBMIT_FILE;
@@ -38,6 +39,36 @@ pub enum ChunkState {
     Started,
     /// No task for it has started.
     NotStarted,
+    /// The scheduler holds its task, waiting to start.
+    Queued,
+    /// The scheduler runs its task now.
+    Running,
+}
+
+impl ChunkState {
+    /// True when the scheduler holds the chunk's task: it must not be
+    /// submitted again.
+    pub fn active(self) -> bool {
+        matches!(self, ChunkState::Queued | ChunkState::Running)
+    }
+}
+
+/// What the scheduler was asked.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[serde(tag = "asked", rename_all = "snake_case")]
+pub enum SchedulerAnswer {
+    /// The scheduler answered: these many tasks of the job are queued or
+    /// running.
+    Asked {
+        /// Tasks it holds.
+        held: usize,
+    },
+    /// It could not be asked, so chunks shown as not started or started
+    /// may still be queued or running.
+    Unknown {
+        /// Why.
+        reason: String,
+    },
 }
 
 /// One chunk that is not done.
@@ -69,8 +100,13 @@ pub struct JobStatus {
     pub done: u64,
     /// Ids of the chunks not done, ascending.
     pub missing: Vec<u64>,
+    /// Ids of the chunks not done whose task the scheduler does not hold:
+    /// the ones to submit again.
+    pub resubmit: Vec<u64>,
     /// What is known about each missing chunk.
     pub missing_detail: Vec<MissingChunk>,
+    /// What the scheduler said.
+    pub scheduler: SchedulerAnswer,
 }
 
 /// True when a chunk's partial is done: it reads back with a good
@@ -87,11 +123,26 @@ pub fn partial_done(path: &Path, fingerprint: &str, chunk: &ChunkEntry) -> bool 
     }
 }
 
-/// Reads the state of the job directory `dir`. The plan must still be the
-/// one the jobs were written for.
-pub fn job_status(dir: &Path) -> Result<JobStatus> {
+/// Reads the state of the job directory `dir`, asking `scheduler` (when
+/// given) which tasks it still holds. The plan must still be the one the
+/// jobs were written for.
+pub fn job_status(dir: &Path, scheduler: Option<&mut dyn Scheduler>) -> Result<JobStatus> {
     let m = read_manifest(dir)?;
     check_plan_unchanged(&m)?;
+    let (held, answer) = match scheduler.map(|s| s.tasks(&m.task.job_name)) {
+        Some(Ok(tasks)) => (tasks, SchedulerAnswer::Asked { held: 0 }),
+        Some(Err(reason)) => (Vec::new(), SchedulerAnswer::Unknown { reason }),
+        None => (
+            Vec::new(),
+            SchedulerAnswer::Unknown {
+                reason: "the scheduler was not asked".into(),
+            },
+        ),
+    };
+    let answer = match answer {
+        SchedulerAnswer::Asked { .. } => SchedulerAnswer::Asked { held: held.len() },
+        other => other,
+    };
     let logs = dir.join(&m.logs_dir);
     let mut missing_detail = Vec::new();
     for c in &m.chunk_list {
@@ -101,11 +152,16 @@ pub fn job_status(dir: &Path) -> Result<JobStatus> {
         let exit = std::fs::read_to_string(logs.join(format!("chunk-{}.exit", c.id)))
             .ok()
             .and_then(|t| t.trim().parse::<i64>().ok());
-        let state = match exit {
-            Some(0) => ChunkState::Lost,
-            Some(code) => ChunkState::Failed { exit_code: code },
-            None if logs.join(format!("chunk-{}.out", c.id)).exists() => ChunkState::Started,
-            None => ChunkState::NotStarted,
+        let held_task = held.iter().find(|t| t.task == c.id);
+        let state = match (held_task, exit) {
+            (Some(t), _) if t.running => ChunkState::Running,
+            (Some(_), _) => ChunkState::Queued,
+            (None, Some(0)) => ChunkState::Lost,
+            (None, Some(code)) => ChunkState::Failed { exit_code: code },
+            (None, None) if logs.join(format!("chunk-{}.out", c.id)).exists() => {
+                ChunkState::Started
+            }
+            (None, None) => ChunkState::NotStarted,
         };
         missing_detail.push(MissingChunk {
             id: c.id,
@@ -115,6 +171,11 @@ pub fn job_status(dir: &Path) -> Result<JobStatus> {
         });
     }
     let missing: Vec<u64> = missing_detail.iter().map(|c| c.id).collect();
+    let resubmit: Vec<u64> = missing_detail
+        .iter()
+        .filter(|c| !c.state.active())
+        .map(|c| c.id)
+        .collect();
     Ok(JobStatus {
         dir: dir.to_path_buf(),
         plan: m.plan.clone(),
@@ -122,7 +183,9 @@ pub fn job_status(dir: &Path) -> Result<JobStatus> {
         chunks: m.chunks,
         done: m.chunks - missing.len() as u64,
         missing,
+        resubmit,
         missing_detail,
+        scheduler: answer,
     })
 }
 
@@ -174,10 +237,10 @@ pub fn write_resubmit(dir: &Path, ids: &[u64]) -> Result<PathBuf> {
 }
 
 /// Brings `DIR/resubmit.sbatch` in line with `status`: written for the
-/// missing chunks, or removed when none is missing. Returns the script
-/// when one was written.
+/// missing chunks the scheduler does not hold, or removed when there are
+/// none. Returns the script when one was written.
 pub fn refresh_resubmit(dir: &Path, status: &JobStatus) -> Result<Option<PathBuf>> {
-    if status.missing.is_empty() {
+    if status.resubmit.is_empty() {
         let stale = dir.join(RESUBMIT_FILE);
         match std::fs::remove_file(&stale) {
             Ok(()) => {}
@@ -186,5 +249,5 @@ pub fn refresh_resubmit(dir: &Path, status: &JobStatus) -> Result<Option<PathBuf
         }
         return Ok(None);
     }
-    write_resubmit(dir, &status.missing).map(Some)
+    write_resubmit(dir, &status.resubmit).map(Some)
 }

@@ -53,6 +53,9 @@ pub struct JobOptions {
     pub mem: MemChoice,
     /// CPUs per task (default: the plan's slices at once).
     pub cpus_per_task: Option<u64>,
+    /// The partition's time limit per task, seconds, when known: a task
+    /// asking for more gets a warning.
+    pub max_time: Option<u64>,
     /// The `sliceplan` binary the tasks run.
     pub binary: PathBuf,
     /// Overwrite a directory holding another plan's jobs.
@@ -155,6 +158,7 @@ pub fn write_jobs(
         parallel,
     )?;
     let mut notes = Vec::new();
+    time_notes(time.seconds, opts.max_time, chunks, &mut notes);
     let binary = resolve_binary(&opts.binary, &mut notes)?;
     let plan_abs = std::fs::canonicalize(plan_path).map_err(|e| Error::read(plan_path, e))?;
     std::fs::create_dir_all(out).map_err(|e| Error::write(out, e))?;
@@ -223,6 +227,30 @@ pub fn write_jobs(
         files,
         notes,
     })
+}
+
+/// Task time limits longer than this get a warning when the partition's
+/// limit is not given: a week is beyond what most partitions allow
+/// (common practice, no source).
+pub const LONG_TASK_SECONDS: u64 = 7 * 86_400;
+
+/// Warns when a task's time limit exceeds the partition's (`max_time`), or
+/// a week when that is not known.
+fn time_notes(seconds: u64, max_time: Option<u64>, chunks: u64, notes: &mut Vec<String>) {
+    let fmt = super::resources::format_duration;
+    match max_time {
+        Some(max) if seconds > max => notes.push(format!(
+            "WARNING: each task asks for {}, more than the partition's limit of {}; the scheduler will refuse or kill the tasks. Use about {} chunks (or more) so each task fits",
+            fmt(seconds),
+            fmt(max),
+            (chunks as f64 * seconds as f64 / max as f64).ceil()
+        )),
+        None if seconds > LONG_TASK_SECONDS => notes.push(format!(
+            "WARNING: each task asks for {}, longer than a week; most partitions refuse that. Check your partition's limit (`sinfo -o \"%P %l\"`), give it as the `max_time` option, and use more chunks",
+            fmt(seconds)
+        )),
+        _ => {}
+    }
 }
 
 /// The binary as an absolute path the scripts can carry.

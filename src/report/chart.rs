@@ -39,8 +39,11 @@ pub fn frontier_svg(
         let root = SVGBackend::with_string(&mut svg, (800, 480)).into_drawing_area();
         let e = |err: DrawingAreaErrorKind<_>| format!("cannot draw the chart: {err:?}");
         root.fill(&WHITE).map_err(e)?;
+        // The caption's font shrinks so a long network name still fits the
+        // 800-pixel width (about 0.55 em per character of sans-serif).
+        let size = (760.0 / (0.55 * title.chars().count().max(1) as f64)).clamp(9.0, 20.0);
         let mut chart = ChartBuilder::on(&root)
-            .caption(title, ("sans-serif", 20))
+            .caption(title, ("sans-serif", size))
             .margin(12)
             .x_label_area_size(40)
             .y_label_area_size(60)
@@ -76,6 +79,22 @@ pub fn frontier_svg(
                     .map(|(&x, &y)| Circle::new((x, y), 3, blue.filled())),
             )
             .map_err(e)?;
+        // The chosen slice set: a ring around its point, in the legend too.
+        let chosen: Vec<(f64, f64)> = rows
+            .iter()
+            .zip(xs.iter().zip(&ops))
+            .filter(|(r, _)| r.chosen)
+            .map(|(_, (&x, &y))| (x, y))
+            .collect();
+        chart
+            .draw_series(
+                chosen
+                    .iter()
+                    .map(|&(x, y)| Circle::new((x, y), 8, BLACK.stroke_width(2))),
+            )
+            .map_err(e)?
+            .label("chosen slice set")
+            .legend(|(x, y)| Circle::new((x + 10, y), 5, BLACK.stroke_width(2)));
         chart
             .draw_secondary_series(LineSeries::new(
                 xs.iter().copied().zip(peaks.iter().copied()),

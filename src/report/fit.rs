@@ -5,7 +5,7 @@ use serde::Serialize;
 
 use super::inspect::TreeReport;
 use super::plan::SearchReport;
-use super::{group_decimal, log2_str, ops_str, Table};
+use super::{group_decimal, log2_str, ops_str, overhead_str, Table};
 use crate::cost::bytes::bytes_human;
 use crate::cost::machine::{Estimate, ESTIMATE_METHOD};
 use crate::cost::memory::MemoryNeed;
@@ -96,17 +96,25 @@ pub struct FitReport {
     pub fits_without_slicing: bool,
     /// Does it fit at all (with the chosen slicing)?
     pub fits: bool,
+    /// True unless the plan that fits is impractical (too many slices or
+    /// too long on the machine; see `impractical`).
+    pub practical: bool,
+    /// Why a plan that fits is impractical, one reason each.
+    pub impractical: Vec<String>,
     /// One sentence answering "will it fit".
     pub verdict: String,
     /// What a process needs with the chosen slicing (or unsliced when
     /// nothing fits).
     pub memory: MemoryReport,
+    /// What a process needs without slicing: the one "unsliced" figure of
+    /// every screen (the first frontier row shows the same).
+    pub memory_unsliced: MemoryReport,
     /// The smallest budget that works with any slice set found, when it
     /// cannot fit.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub smallest_budget_bytes: Option<f64>,
-    /// The chosen slice set.
-    #[serde(skip_serializing_if = "Option::is_none")]
+    /// The chosen slice set (no indices and 1 slice when none is needed;
+    /// null when nothing fits).
     pub slicing: Option<SlicingReport>,
     /// Best points by slice count.
     pub frontier: Vec<FrontierRow>,
@@ -159,37 +167,34 @@ impl FitReport {
         let head = &advice[0];
         let r = &head.result;
         let fits_without = head.fits_without_slicing();
-        let slicing = r
-            .chosen
-            .as_ref()
-            .filter(|(p, _)| !p.sliced.is_empty())
-            .map(|(p, origin)| SlicingReport {
-                indices: p
-                    .sliced
-                    .iter()
-                    .map(|&e| net.indices[e].name.clone())
-                    .collect(),
-                dims: p.sliced.iter().map(|&e| net.indices[e].dim).collect(),
-                slices: p.slices.to_json_string(),
-                slices_log2: p.slices.log2,
-                per_slice: PerSlice {
-                    total_ops_log2: p.per_slice_total_ops.log2,
-                    width: p.per_slice_width,
-                    peak_bytes: p.need.per_slice_peak_bytes,
-                },
-                total_ops: p.total_ops.to_json_string(),
-                total_ops_log2: p.total_ops.log2,
-                overhead: crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2),
-                found_by: *origin,
-                fewest_slices_found: r.fewest_slices.as_ref().map(|f| f.slices.to_json_string()),
-            });
+        let slicing = r.chosen.as_ref().map(|(p, origin)| SlicingReport {
+            indices: p
+                .sliced
+                .iter()
+                .map(|&e| net.indices[e].name.clone())
+                .collect(),
+            dims: p.sliced.iter().map(|&e| net.indices[e].dim).collect(),
+            slices: p.slices.to_json_string(),
+            slices_log2: p.slices.log2,
+            per_slice: PerSlice {
+                total_ops_log2: p.per_slice_total_ops.log2,
+                width: p.per_slice_width,
+                peak_bytes: p.need.per_slice_peak_bytes,
+            },
+            total_ops: p.total_ops.to_json_string(),
+            total_ops_log2: p.total_ops.log2,
+            overhead: crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2),
+            found_by: *origin,
+            fewest_slices_found: r.fewest_slices.as_ref().map(|f| f.slices.to_json_string()),
+        });
         let need = r
             .chosen
             .as_ref()
             .map(|(p, _)| p.need)
             .unwrap_or(r.unsliced.need);
         let budget = head.target.budget_bytes;
-        let verdict = verdict(head, fits_without, budget);
+        let impractical = impractical(head);
+        let verdict = verdict(head, fits_without, budget, &impractical);
         let machines = if advice.len() > 1 {
             advice.iter().map(machine_row).collect()
         } else {
@@ -206,8 +211,11 @@ impl FitReport {
             slices_at_once: head.target.slices_at_once,
             fits_without_slicing: fits_without,
             fits: r.chosen.is_some(),
+            practical: impractical.is_empty(),
+            impractical,
             verdict,
             memory: need.into(),
+            memory_unsliced: r.unsliced.need.into(),
             smallest_budget_bytes: r.chosen.is_none().then_some(r.smallest_need_bytes),
             slicing,
             frontier: r.frontier.clone(),
@@ -250,11 +258,11 @@ impl FitReport {
             .map(|b| format!("; no tree has width below {}", log2_str(b.width)))
             .unwrap_or_default();
         out.push_str(&format!(
-            "tree      {}: total ops {}, width {}{bound}, peak {} unsliced\n",
+            "tree      {}: total ops {}, width {}, op width {}{bound}\n",
             t.source,
             ops_str(t.total_ops_log2),
             log2_str(t.width),
-            bytes_human(self.memory_unsliced_hint()),
+            log2_str(t.op_width),
         ));
         out.push_str(&format!(
             "budget    {} per process, {} slice{} at a time, {} ({} bytes per element)\n\n",
@@ -265,24 +273,32 @@ impl FitReport {
             self.bytes_per_element
         ));
         out.push_str(&format!("verdict   {}\n", self.verdict));
-        let m = &self.memory;
-        out.push_str(&format!(
-            "memory    inputs {} + output {} + {} x per-slice peak {} = {}\n",
-            bytes_human(m.inputs_bytes),
-            bytes_human(m.output_bytes),
-            self.slices_at_once,
-            bytes_human(m.per_slice_peak_bytes),
-            bytes_human(m.process_bytes)
-        ));
-        if let Some(s) = &self.slicing {
+        out.push_str(
+            "memory    a process holds its inputs, the output accumulator and, per slice at once, the slice's peak (executor rule):\n",
+        );
+        let line = |label: &str, m: &MemoryReport| {
+            format!(
+                "          {label:<9} inputs {} + output {} + {} x {} = {}\n",
+                bytes_human(m.inputs_bytes),
+                bytes_human(m.output_bytes),
+                self.slices_at_once,
+                bytes_human(m.per_slice_peak_bytes),
+                bytes_human(m.process_bytes)
+            )
+        };
+        out.push_str(&line("unsliced", &self.memory_unsliced));
+        if self.slicing.as_ref().is_some_and(|s| !s.indices.is_empty()) {
+            out.push_str(&line("sliced", &self.memory));
+        }
+        if let Some(s) = self.slicing.as_ref().filter(|s| !s.indices.is_empty()) {
             out.push_str(&format!(
-                "sliced    {} ({} slices); per slice {} ops, width {}; total {} ops, overhead {:.3}x (found by {})\n",
+                "sliced    {} ({} slices); per slice {} ops, width {}; total {} ops, overhead {} (found by {})\n",
                 s.indices.join(", "),
                 group_decimal(&s.slices),
                 ops_str(s.per_slice.total_ops_log2),
                 log2_str(s.per_slice.width),
                 ops_str(s.total_ops_log2),
-                s.overhead,
+                overhead_str(s.overhead),
                 origin_name(s.found_by)
             ));
         }
@@ -309,8 +325,8 @@ impl FitReport {
             ));
         }
         if !self.frontier.is_empty() {
-            out.push_str("\nfrontier (best found for each number of slices)\n");
-            out.push_str(&frontier_table(&self.frontier, self.budget_bytes));
+            out.push_str("\nfrontier (for each number of slices: the fitting set with the fewest total ops, or while none fits the smallest per-slice peak; * = chosen)\n");
+            out.push_str(&frontier_table(&self.frontier));
         }
         if !self.machines.is_empty() {
             out.push_str("\nmachines\n");
@@ -331,7 +347,7 @@ impl FitReport {
                         .as_deref()
                         .map(group_decimal)
                         .unwrap_or_else(|| "cannot fit".into()),
-                    r.overhead.map(|o| format!("{o:.3}x")).unwrap_or_default(),
+                    r.overhead.map(overhead_str).unwrap_or_default(),
                     r.estimate
                         .as_ref()
                         .map(|e| hours(e.node_hours))
@@ -340,28 +356,63 @@ impl FitReport {
             }
             out.push_str(&table.render(2));
         }
+        if !self.impractical.is_empty() {
+            out.push_str("\nNote: 'impractical' uses the target's limits (a machine profile's [limits], else 1,000,000 slices and 168 hours of wall time: rules of thumb).\n");
+        }
         if self.estimate.is_some() || self.machines.iter().any(|m| m.estimate.is_some()) {
             out.push_str(&format!("\nNote: every time is a {ESTIMATE_METHOD}. Measure before you book allocation hours.\n"));
         }
         out
     }
-
-    fn memory_unsliced_hint(&self) -> f64 {
-        // Decimal while exact, `2^x.xx` beyond 2^128 (Count::to_json_string).
-        let text = &self.tree.peak_bytes;
-        match text.strip_prefix("2^") {
-            Some(exp) => exp.parse::<f64>().map_or(f64::INFINITY, f64::exp2),
-            None => text.parse::<f64>().unwrap_or(f64::INFINITY),
-        }
-    }
 }
 
-fn verdict(head: &Advice, fits_without: bool, budget: u64) -> String {
+/// Why the chosen plan of `head`, though it fits, is impractical: more
+/// slices than the machine's limits allow, or more wall time by the
+/// model estimate (limits of the target's machine, else the defaults).
+fn impractical(head: &Advice) -> Vec<String> {
+    let Some((p, _)) = &head.result.chosen else {
+        return Vec::new();
+    };
+    let limits = head
+        .target
+        .machine
+        .as_ref()
+        .map(|m| m.limits)
+        .unwrap_or_default();
+    let mut reasons = Vec::new();
+    if p.slices.log2 > limits.max_slices.log2() + 1e-9 {
+        reasons.push(format!(
+            "{} slices, more than the {} this target counts as practical",
+            group_decimal(&p.slices.to_json_string()),
+            group_decimal(&format!("{:.0}", limits.max_slices))
+        ));
+    }
+    if let Some(e) = &head.estimate {
+        let hours = e.wall_seconds / 3600.0;
+        if hours > limits.max_wall_hours {
+            reasons.push(format!(
+                "{} of wall time on {} node{} by the model estimate, more than the {} this target counts as practical",
+                duration(e.wall_seconds),
+                e.nodes_used,
+                if e.nodes_used == 1 { "" } else { "s" },
+                duration(limits.max_wall_hours * 3600.0)
+            ));
+        }
+    }
+    reasons
+}
+
+fn verdict(head: &Advice, fits_without: bool, budget: u64, impractical: &[String]) -> String {
     let r = &head.result;
     let need = r.unsliced.need.total_bytes();
+    let but = if impractical.is_empty() {
+        String::new()
+    } else {
+        format!("; IMPRACTICAL: {}", impractical.join("; "))
+    };
     if fits_without {
         return format!(
-            "FITS without slicing: needs {} of {} (margin {:.2}x)",
+            "FITS without slicing: a process needs {} of {} (margin {:.2}x){but}",
             bytes_human(need),
             bytes_human(budget as f64),
             budget as f64 / need
@@ -369,9 +420,9 @@ fn verdict(head: &Advice, fits_without: bool, budget: u64) -> String {
     }
     match &r.chosen {
         Some((p, _)) => format!(
-            "FITS with {} slices at overhead {:.3}x (unsliced it needs {}, over the {} budget)",
+            "FITS with {} slices at overhead {} (unsliced a process needs {}, over the {} budget){but}",
             group_decimal(&p.slices.to_json_string()),
-            crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2),
+            overhead_str(crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2)),
             bytes_human(need),
             bytes_human(budget as f64)
         ),
@@ -416,8 +467,10 @@ fn machine_row(a: &Advice) -> MachineRow {
     }
 }
 
-/// The frontier as an aligned table, marking the rows that fit.
-pub fn frontier_table(rows: &[FrontierRow], budget: u64) -> String {
+/// The frontier as an aligned table, marking the rows that fit and the
+/// chosen one. The text stops at the first row past 1,000x overhead or
+/// three rows past the first fitting one (JSON and CSV keep every row).
+pub fn frontier_table(rows: &[FrontierRow]) -> String {
     let mut table = Table::new([
         "slices <=",
         "slices",
@@ -426,19 +479,43 @@ pub fn frontier_table(rows: &[FrontierRow], budget: u64) -> String {
         "fits",
         "total ops",
         "overhead",
+        "",
     ]);
-    for r in rows {
+    let first_fit = rows.iter().position(|r| r.fits);
+    // Rows after the cut are left out, but for the chosen one.
+    let cut = rows
+        .iter()
+        .enumerate()
+        .position(|(k, r)| r.overhead > 1000.0 || first_fit.is_some_and(|f| k > f + 3))
+        .unwrap_or(rows.len());
+    let mut shown = 0;
+    for (k, r) in rows.iter().enumerate() {
+        if k >= cut && !r.chosen {
+            continue;
+        }
+        if k >= cut && shown == cut {
+            table.row(["...", "", "", "", "", "", "", ""].map(String::from));
+        }
         table.row([
             group_decimal(&r.slices_at_most),
             group_decimal(&r.slices),
             bytes_human(r.per_slice_peak_bytes),
             bytes_human(r.process_bytes),
-            yes_no(r.process_bytes <= budget as f64).to_string(),
+            yes_no(r.fits).to_string(),
             ops_str(r.total_ops_log2),
-            format!("{:.3}x", r.overhead),
+            overhead_str(r.overhead),
+            if r.chosen { "*".into() } else { String::new() },
         ]);
+        shown += 1;
     }
-    table.render(2)
+    let mut text = table.render(2);
+    if shown < rows.len() {
+        text.push_str(&format!(
+            "  ({} more row(s) in --json and --csv)\n",
+            rows.len() - shown
+        ));
+    }
+    text
 }
 
 fn estimate_line(e: &Estimate) -> String {

@@ -6,7 +6,7 @@ use std::path::Path;
 use crate::jobs::array::array_spec;
 use crate::jobs::quote::shell_word;
 use crate::jobs::resources::format_duration;
-use crate::jobs::status::{ChunkState, JobStatus};
+use crate::jobs::status::{ChunkState, JobStatus, SchedulerAnswer};
 use crate::jobs::{WrittenJobs, LOCAL_FILE, SUBMIT_FILE};
 
 /// What `jobs` wrote, the task settings and the commands to run next.
@@ -91,13 +91,39 @@ pub fn status_text(st: &JobStatus, resubmit: Option<&Path>, submitted: Option<&s
         ));
         return s;
     }
+    let held: Vec<u64> = st
+        .missing_detail
+        .iter()
+        .filter(|c| c.state.active())
+        .map(|c| c.id)
+        .collect();
+    let list = |ids: &[u64]| {
+        if ids.is_empty() {
+            "none".to_string()
+        } else {
+            array_spec(ids, None)
+        }
+    };
     s.push_str(&format!(
-        "  {} of {} chunks done; missing {}: {}\n",
+        "  {} of {} chunks done; to resubmit {}: {}",
         st.done,
         st.chunks,
-        st.missing.len(),
-        array_spec(&st.missing, None)
+        st.resubmit.len(),
+        list(&st.resubmit)
     ));
+    if !held.is_empty() {
+        s.push_str(&format!(
+            "; queued or running {}: {}",
+            held.len(),
+            list(&held)
+        ));
+    }
+    s.push('\n');
+    if let SchedulerAnswer::Unknown { reason } = &st.scheduler {
+        s.push_str(&format!(
+            "  the scheduler could not be asked ({reason}): chunks shown as not started or started may still be queued or running; check with squeue before resubmitting\n"
+        ));
+    }
     for c in st.missing_detail.iter().take(DETAIL_LINES) {
         let what = match c.state {
             ChunkState::Done => "done".to_string(),
@@ -109,6 +135,8 @@ pub fn status_text(st: &JobStatus, resubmit: Option<&Path>, submitted: Option<&s
                 "started, no exit code yet: still running, or killed by the scheduler (time or memory limit; see logs)".into()
             }
             ChunkState::NotStarted => "not started".into(),
+            ChunkState::Queued => "queued (the scheduler holds it; do not resubmit)".into(),
+            ChunkState::Running => "running now".into(),
         };
         s.push_str(&format!(
             "    chunk {} (slices {}..{}): {what}\n",
@@ -123,13 +151,19 @@ pub fn status_text(st: &JobStatus, resubmit: Option<&Path>, submitted: Option<&s
     }
     if let Some(r) = resubmit {
         s.push_str(&format!("  wrote {}\n", r.display()));
-        match submitted {
-            Some(job) => s.push_str(&format!("  submitted job {job}\n")),
-            None => s.push_str(&format!(
+        match (submitted, &st.scheduler) {
+            (Some(job), _) => s.push_str(&format!("  submitted job {job}\n")),
+            (None, SchedulerAnswer::Asked { .. }) => s.push_str(&format!(
                 "  resubmit with: sbatch {}\n",
                 shell_word(&r.display().to_string())
             )),
+            (None, SchedulerAnswer::Unknown { .. }) => s.push_str(&format!(
+                "  if none of those chunks is queued or running, resubmit with: sbatch {}\n",
+                shell_word(&r.display().to_string())
+            )),
         }
+    } else if !held.is_empty() {
+        s.push_str("  nothing to resubmit: wait for the queued and running chunks\n");
     }
     s
 }

@@ -27,6 +27,15 @@ pub fn log2_str(x: f64) -> String {
     }
 }
 
+/// Formats an overhead factor: `2.406x`, or `1.14e8x` from 10,000 on.
+pub fn overhead_str(x: f64) -> String {
+    if x < 1e4 {
+        format!("{x:.3}x")
+    } else {
+        format!("{x:.2e}x")
+    }
+}
+
 /// Formats a count of ops given as log2: `2^12.51`, or `0` when there is
 /// nothing to contract (a single tensor).
 pub fn ops_str(log2: f64) -> String {

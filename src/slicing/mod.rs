@@ -327,8 +327,9 @@ pub fn find_slices(
         .unwrap_or(opts.max_slices_log2)
         + opts.frontier_extra as f64;
     let points: Vec<Point> = seen.iter().map(|s| s.point.clone()).collect();
+    let chosen = by_ops.map(|i| &seen[i].point);
     SliceResult {
-        frontier: frontier(&points, unsliced.total_ops, limit),
+        frontier: frontier(&points, unsliced.total_ops, limit, opts, chosen),
         tree: trees[chosen_tree].clone(),
         chosen: by_ops.map(|i| (seen[i].point.clone(), seen[i].origin)),
         fewest_slices: by_slices.map(|i| seen[i].point.clone()),
