@@ -215,6 +215,26 @@ pub fn read_plan(path: &Path) -> Result<Plan> {
 /// Parses plan-file text (`source` names it in errors) and checks its
 /// header and tree.
 pub fn parse_plan(text: &str, source: &str) -> Result<Plan> {
+    // Another of our files given where a plan belongs: say which, and how
+    // to get a plan, before the schema's messages.
+    if let Ok(table) = text.parse::<toml::Table>() {
+        let format = table.get("format").and_then(|f| f.as_str());
+        let what = match format {
+            Some(crate::tree::TREE_FORMAT) => Some("a tree file"),
+            Some("sliceplan-network") => Some("a network file"),
+            Some("sliceplan-machine") => Some("a machine profile"),
+            Some("sliceplan-jobs") => Some("a job manifest"),
+            _ => None,
+        };
+        if let Some(what) = what {
+            return Err(Error::in_source(
+                source,
+                format!(
+                    "this is {what}, not a plan; make a plan with `sliceplan plan NETWORK --budget SIZE -o NAME.plan.toml`"
+                ),
+            ));
+        }
+    }
     let plan: Plan = crate::io::parse_toml(text, source, "plan file")?;
     crate::io::check_header(
         source,
