@@ -12,15 +12,16 @@ use sliceplan::jobs::{ChunkChoice, JobOptions, MemChoice, Slurm, TimeChoice};
 use sliceplan::report::jobs::{status_text, written_text};
 
 pub(super) const EXAMPLES: &str = "Examples:
-  sliceplan jobs ising.plan.toml --out runs/ising --chunks 64 --max-running 16 --partition compute
-  sliceplan jobs ising.plan.toml --out runs/ising --slices-per-task 8 --time-per-task 02:00:00 --mem 48GiB
-  sliceplan jobs ising.plan.toml --out runs/ising --submit
+  sliceplan jobs ising.plan.toml --out runs/ising --chunks 4 --max-running 2 --partition compute --time-per-task 00:10:00
+  sliceplan jobs ising.plan.toml --out runs/ising --slices-per-task 2 --time-per-task 02:00:00 --mem 1GiB --max-time 2-00:00:00
+  sliceplan jobs ising.plan.toml --out runs/ising --time-per-task 00:10:00 --submit
   sliceplan jobs --status runs/ising
   sliceplan jobs --status runs/ising --submit
 
 Writes DIR/manifest.toml, DIR/submit.sbatch (one job array) and DIR/run-local.sh.
---status exits 0 when every chunk is done, 1 when some are missing (and then
-writes DIR/resubmit.sbatch for exactly those).";
+--status asks the scheduler (squeue) which chunks it still holds; it exits 0
+when every chunk is done, 1 when some are not (and then writes
+DIR/resubmit.sbatch for exactly the ones the scheduler does not hold).";
 
 /// Arguments of `jobs`.
 #[derive(Debug, Args)]

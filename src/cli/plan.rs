@@ -17,8 +17,8 @@ pub(super) const EXAMPLES: &str = "Examples:
   sliceplan plan demo-data/ising-6x6.toml --time 5s -o ising.tree.toml
   sliceplan plan --einsum \"ab,bc,cd,de,ef,fg->ag\" --dims a=30,b=35,c=15,d=5,e=10,f=20,g=25 --trials 50
   sliceplan plan demo-data/ising-6x6.toml --trials 500 --seed 7 --threads 2 --objective ops-within --max-width 8 --json
-  sliceplan plan demo-data/ising-6x6.toml --budget 6KiB --dtype f64 -o ising.plan.toml
-  sliceplan plan demo-data/ising-6x6.toml --machine cpu-64g --nodes 4 -o ising.plan.toml --svg frontier.svg
+  sliceplan plan demo-data/ising-6x6.toml --machine cpu-64g --nodes 4 -o big.plan.toml --svg frontier.svg
+  sliceplan plan demo-data/ising-6x6.toml --budget 6KiB --trials 32 -o ising.plan.toml
 
 Without --budget or --machine, -o writes the tree file; with one, it writes
 the plan file (tree, traversal order, slice set, predicted costs), and the

@@ -17,9 +17,9 @@ use sliceplan::exec::report::{run_text, verify_text};
 
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan run ising.plan.toml --all
-  sliceplan run ising.plan.toml --all --of 32 --threads 8 --verify -o ising.npy
-  sliceplan run ising.plan.toml --chunk 3 --of 100 --out parts/
-  sliceplan run ising.plan.toml --slices 0..16 --out parts/";
+  sliceplan run ising.plan.toml --all --of 4 --threads 2 --verify -o ising.npy
+  sliceplan run ising.plan.toml --chunk 1 --of 2 --out parts/
+  sliceplan run ising.plan.toml --slices 0..2 --out parts/";
 
 /// Arguments of `run`.
 #[derive(Debug, Args)]
