@@ -22,9 +22,10 @@ fn main() -> ExitCode {
         }
         Err(err) => {
             // The library's message already carries the OS error of an I/O
-            // failure; printing the source chain too would repeat it.
-            eprintln!("sliceplan: {}", cli::message(&err));
-            ExitCode::from(err.exit_code())
+            // failure; printing its source chain too would repeat it.
+            let (text, code) = cli::report_error(&err);
+            eprintln!("sliceplan: {text}");
+            ExitCode::from(code)
         }
     }
 }

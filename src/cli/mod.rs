@@ -93,8 +93,13 @@ pub enum Command {
     Generate(generate::GenerateArgs),
 }
 
-/// Runs a parsed command line.
-pub fn run(cli: Cli) -> Result<Outcome> {
+/// Runs a parsed command line. Library errors travel inside the
+/// `anyhow::Error` and keep their type (see [`report_error`]).
+pub fn run(cli: Cli) -> anyhow::Result<Outcome> {
+    Ok(dispatch(cli)?)
+}
+
+fn dispatch(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Inspect(args) => inspect::run(args),
         Command::Plan(args) => plan::run(args),
@@ -120,6 +125,16 @@ fn flag(field: &str) -> String {
         "network" => "--network".into(),
         "plan" => "PLAN".into(),
         other => format!("--{}", other.replace('_', "-")),
+    }
+}
+
+/// What to print for an error and the exit code: a library error by its
+/// kind ([`Error::exit_code`]) with options named by their flags; anything
+/// else with its whole cause chain, exit code 1.
+pub fn report_error(err: &anyhow::Error) -> (String, u8) {
+    match err.downcast_ref::<Error>() {
+        Some(e) => (message(e), e.exit_code()),
+        None => (format!("{err:#}"), EXIT_CANNOT),
     }
 }
 
