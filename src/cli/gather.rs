@@ -57,7 +57,7 @@ pub(super) fn run(args: GatherArgs) -> Result<Outcome> {
     match gather(&plan, &net, &args.dir)? {
         GatherOutcome::Complete(g) => {
             if let Some(path) = &args.output {
-                crate::exec::npy_out::write_npy(path, g.dtype, &g.shape, &g.lanes)?;
+                g.write_npy(path)?;
             }
             let r = ResultReport::new(&g, args.output.clone());
             Ok(Outcome::ok(if args.json {

@@ -234,14 +234,14 @@ pub(super) fn run(args: RunArgs) -> Result<Outcome> {
         match gather(&plan, &net, &dir)? {
             GatherOutcome::Complete(g) => {
                 if let Some(path) = &args.output {
-                    crate::exec::npy_out::write_npy(path, g.dtype, &g.shape, &g.lanes)?;
+                    g.write_npy(path)?;
                 }
                 let r = ResultReport::new(&g, args.output.clone());
                 text.push_str(&r.to_text());
                 result = Some(serde_json::to_value(&r).expect("reports serialise"));
                 if args.verify {
                     let whole = contract_whole(&plan, &net, threads, VERIFY_MAX_BYTES)?;
-                    let v = compare(plan.dtype, &g.lanes, &whole);
+                    let v = compare(&g, &whole);
                     text.push_str(&verify_text(&v));
                     if !v.agrees {
                         code = EXIT_CANNOT;
