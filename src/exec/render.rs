@@ -28,10 +28,12 @@
 
 use super::scale::{floor_log2, ldexp};
 
-/// log10 2 as a sum of two f64 (hi + lo, to about 2^-106).
-const LOG10_2: (f64, f64) = (0.3010299956639812, -2.8037281277851704e-18);
+/// log10 2 as a sum of two f64 (hi + lo, to about 2^-106): the standard
+/// library's nearest f64 and the remainder (from 60-digit decimal
+/// arithmetic).
+const LOG10_2: (f64, f64) = (std::f64::consts::LOG10_2, -2.8037281277851704e-18);
 /// ln 2 as a sum of two f64.
-const LN_2: (f64, f64) = (0.6931471805599453, 2.3190468138462996e-17);
+const LN_2: (f64, f64) = (std::f64::consts::LN_2, 2.3190468138462996e-17);
 
 /// Significant digits printed for values beyond the f64 range.
 const DIGITS: usize = 15;

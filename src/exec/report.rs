@@ -193,24 +193,17 @@ impl ResultReport {
                     Some(ScalarValue::Real(x)) => (x, 0.0),
                     None => (0.0, 0.0),
                 };
-                let _ = write!(
-                    s,
-                    "       = {} ; ln|value| = {}",
-                    if self.dtype.is_complex() {
-                        format!(
-                            "({re} {} {}i) x 2^{}",
-                            if im < 0.0 { '-' } else { '+' },
-                            im.abs(),
-                            self.exponent2
-                        )
-                    } else {
-                        binary_text(re, self.exponent2)
-                    },
-                    float_text(ln)
-                );
+                let _ = write!(s, "ln|value|: {}", float_text(ln));
                 if let Some(phase) = self.phase {
-                    let _ = write!(s, ", phase {} rad", float_text(phase));
+                    let _ = write!(s, ", phase: {} rad", float_text(phase));
                 }
+                let binary = if self.dtype.is_complex() {
+                    let sign = if im < 0.0 { '-' } else { '+' };
+                    format!("({re} {sign} {}i) x 2^{}", im.abs(), self.exponent2)
+                } else {
+                    binary_text(re, self.exponent2)
+                };
+                let _ = write!(s, " (value = {binary})");
                 s.push('\n');
             }
         }
