@@ -27,7 +27,9 @@ fn main() {
     let quick = std::env::args().any(|a| a == "--quick");
     let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
     let (lattice, grid) = if quick { (8, 10) } else { (12, 14) };
-    println!("numerics: seconds per run (best of 3), {threads} thread(s); ratio = time / plain f64");
+    println!(
+        "numerics: seconds per run (best of 3), {threads} thread(s); ratio = time / plain f64"
+    );
     let net = random_lattice(lattice);
     let plan = plan_for(&net);
     println!(

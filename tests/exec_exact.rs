@@ -347,3 +347,67 @@ fn counts_that_cannot_be_exact_say_so() {
     assert_eq!(j["result"]["exact_value"], "5598861");
     assert_eq!(j["run"]["numerics"]["arithmetic"]["kind"], "float");
 }
+
+#[test]
+fn float_partials_of_an_exact_count_are_rerun_not_summed() {
+    // Partials written in floating point (as version 1 files were) for a
+    // network that is now counted exactly: gather rejects them, run redoes
+    // them. [[1,1],[1,0]]^100 has the Fibonacci numbers F101, F100, F99
+    // (OEIS A000045), computed here by the recurrence.
+    let mut fib = vec![0u128, 1];
+    for k in 2..=101 {
+        fib.push(fib[k - 1] + fib[k - 2]);
+    }
+    let net = fibonacci_chain(100);
+    let sliced = vec![net.index_id("i50").unwrap()];
+    let plan = Plan::for_tree(
+        &net,
+        "fib.toml",
+        &Tree::left_deep(100),
+        &sliced,
+        Dtype::F64,
+        1 << 20,
+    );
+    let dir = tempfile::tempdir().unwrap();
+    write_case(dir.path(), "fib", &net, &plan);
+    let parts = dir.path().join("fib.partials");
+    let jobs =
+        sliceplan::exec::chunk_jobs(2, &sliceplan::exec::Selection::AllChunks { of: 2 }, &parts)
+            .unwrap();
+    std::fs::create_dir_all(&parts).unwrap();
+    let options = sliceplan::exec::RunOptions {
+        threads: 1,
+        force: true,
+    };
+    sliceplan::exec::runner::run_plan_numerics(
+        &sliceplan::exec::matmul::FaerMatMul,
+        &plan,
+        &net,
+        &jobs,
+        &options,
+        &sliceplan::exec::exact::Numerics::float(),
+        &|_| {},
+    )
+    .unwrap();
+    let o = sliceplan(
+        dir.path(),
+        &["gather", "fib.plan.toml", "fib.partials", "--json"],
+    );
+    assert_eq!(o.status.code(), Some(1), "{}", stdout(&o));
+    let j: Value = serde_json::from_str(&stdout(&o)).unwrap();
+    let rejected = j["rejected"].as_array().unwrap();
+    assert_eq!(rejected.len(), 2, "{j}");
+    assert!(rejected[0]["reason"]
+        .as_str()
+        .unwrap()
+        .contains("computed in floating point"));
+    let j = json(&sliceplan(
+        dir.path(),
+        &["run", "fib.plan.toml", "--all", "--of", "2", "--json"],
+    ));
+    assert_eq!(j["run"]["chunks_skipped"], 0, "{j}");
+    assert_eq!(
+        j["result"]["exact_values"],
+        serde_json::json!([fib[101], fib[100], fib[100], fib[99]].map(|x| x.to_string()))
+    );
+}

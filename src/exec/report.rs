@@ -10,6 +10,7 @@ use super::gather::{Gathered, Incomplete};
 use super::npy_out::{exponent_path, npy_mantissas};
 use super::render::{binary_text, complex_text, float_text, in_range, ln_abs, scaled_text};
 use super::runner::RunReport;
+use super::scale::{floor_log2, ldexp};
 use super::verify::Verification;
 use crate::cost::bytes::bytes_human;
 use crate::network::Dtype;
@@ -134,7 +135,21 @@ impl ResultReport {
                 _ => None,
             })
             .flatten();
-        let mantissa_norm = g.lanes.iter().map(|x| x * x).sum::<f64>().sqrt();
+        // The norm with the largest part brought to [1, 2) first, so that
+        // squares cannot overflow: norm = mantissa_norm x 2^norm_exp.
+        let largest = g.lanes.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        let shift = if largest > 0.0 {
+            floor_log2(largest)
+        } else {
+            0
+        };
+        let mantissa_norm = g
+            .lanes
+            .iter()
+            .map(|&x| ldexp(x, -shift).powi(2))
+            .sum::<f64>()
+            .sqrt();
+        let norm_exp = e + shift;
         let exact_values = match (&g.exact, scalar) {
             (Some(v), false) if v.len() <= EXACT_LIST_MAX => {
                 Some(v.iter().map(|x| x.to_string()).collect())
@@ -159,8 +174,8 @@ impl ResultReport {
             exact_values,
             not_exact: g.numerics.note.clone(),
             arithmetic: g.numerics.describe(),
-            norm: in_range(mantissa_norm, e),
-            norm_text: scaled_text(mantissa_norm, e),
+            norm: in_range(mantissa_norm, norm_exp),
+            norm_text: scaled_text(mantissa_norm, norm_exp),
             partials: g.partials,
             slices: g.slices,
             exponent_file: result_file.as_deref().map(exponent_path),
@@ -383,4 +398,64 @@ pub fn verify_text(v: &Verification) -> String {
         bytes_human(v.unsliced_predicted_peak_bytes as f64),
         bytes_human(v.unsliced_measured_peak_bytes as f64)
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::exec::exact::Numerics;
+
+    fn gathered(dtype: Dtype, shape: Vec<u64>, lanes: Vec<f64>, exponent: i64) -> Gathered {
+        Gathered {
+            dtype,
+            shape,
+            lanes,
+            exponent,
+            exact: None,
+            numerics: Numerics::float(),
+            partials: 1,
+            slices: 1,
+        }
+    }
+
+    #[test]
+    fn norms_of_huge_values_do_not_overflow() {
+        // sqrt(2) x 1e300: the squares (1e600) are beyond f64.
+        let g = gathered(Dtype::F64, vec![2], vec![1e300, 1e300], 0);
+        let r = ResultReport::new(&g, None);
+        let want = std::f64::consts::SQRT_2 * 1e300;
+        assert!((r.norm.unwrap() - want).abs() <= 1e-15 * want);
+        // The same 2^2000 times bigger: sqrt 2 x 1e300 x 2^2000 =
+        // 1.62370200063370193...e902 (Python Decimal, 30 digits).
+        let g = gathered(Dtype::F64, vec![2], vec![1e300, 1e300], 2000);
+        let r = ResultReport::new(&g, None);
+        assert!(r.norm.is_none());
+        assert!(
+            r.norm_text.starts_with("1.6237020006337") && r.norm_text.ends_with("e902"),
+            "{}",
+            r.norm_text
+        );
+    }
+
+    #[test]
+    fn exact_counts_print_every_digit() {
+        let mut g = gathered(Dtype::F64, vec![], vec![2.03004905114598e18], 0);
+        g.exact = Some(vec!["2030049051145980050".parse().unwrap()]);
+        let r = ResultReport::new(&g, None);
+        assert!(r
+            .to_text()
+            .starts_with("value: 2030049051145980050 (exact, 19 digits, f64)\nln|value|: "));
+        assert_eq!(r.exact_value.as_deref(), Some("2030049051145980050"));
+    }
+
+    #[test]
+    fn out_of_range_values_have_no_plain_value() {
+        let g = gathered(Dtype::C128, vec![], vec![0.0, -1.0], 5000);
+        let r = ResultReport::new(&g, None);
+        assert_eq!(r.value, None);
+        // ln(2^5000) = 5000 ln 2 = 3465.7359027997264 (closed form), phase -pi/2.
+        assert!((r.ln_abs.unwrap() - 3465.7359027997264).abs() < 1e-9);
+        assert_eq!(r.phase, Some(-std::f64::consts::FRAC_PI_2));
+        assert!(!r.to_text().contains("NaN") && !r.to_text().contains("inf"));
+    }
 }

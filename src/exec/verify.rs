@@ -13,7 +13,7 @@ use super::output::OutputLayout;
 use super::pairwise::{Context, Kernel};
 use super::runner::{check_runnable, predicted_slice_peak_bytes};
 use super::scalar::{lanes_per_element, Scalar};
-use super::scale::ldexp;
+use super::scale::{floor_log2, ldexp};
 use super::slice::Prepared;
 use crate::error::{Error, Result};
 use crate::network::{Dtype, Network};
@@ -130,7 +130,20 @@ pub fn relative_difference(a: &[f64], b: &[f64]) -> f64 {
 /// to their larger exponent.
 pub fn compare(gathered: &Gathered, whole: &Whole) -> Verification {
     let dtype = gathered.dtype;
-    let top = gathered.exponent.max(whole.exponent);
+    // The larger of the two largest parts goes to [1, 2), so that squares
+    // cannot overflow whatever the exponents.
+    let top_of = |lanes: &[f64], exp: i64| {
+        let m = lanes.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        (m > 0.0 && m.is_finite()).then(|| floor_log2(m) + exp)
+    };
+    let top = match (
+        top_of(&gathered.lanes, gathered.exponent),
+        top_of(&whole.lanes, whole.exponent),
+    ) {
+        (Some(a), Some(b)) => a.max(b),
+        (Some(a), None) | (None, Some(a)) => a,
+        (None, None) => 0,
+    };
     let at = |lanes: &[f64], exp: i64| -> Vec<f64> {
         lanes.iter().map(|&x| ldexp(x, exp - top)).collect()
     };
