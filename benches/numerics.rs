@@ -11,8 +11,6 @@
 //!
 //! Usage: `numerics [--quick]`.
 
-use std::time::Instant;
-
 use sliceplan::exec::exact::Numerics;
 use sliceplan::exec::matmul::FaerMatMul;
 use sliceplan::exec::runner::run_plan_numerics;
@@ -25,22 +23,24 @@ use sliceplan::search::{find_tree, SearchOptions};
 
 fn main() {
     let quick = std::env::args().any(|a| a == "--quick");
-    let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
-    let (lattice, grid) = if quick { (8, 10) } else { (12, 14) };
+    // One thread and CPU time: the machine is shared, and CPU seconds of a
+    // single thread move far less with other load than wall time does.
+    let threads = 1;
+    // Full size: about 2^33 and 2^30 multiply-adds (trees found in 8 trials).
+    let (lattice, bond, grid) = if quick { (8, 2, 12) } else { (10, 4, 20) };
     println!(
-        "numerics: seconds per run (best of 3), {threads} thread(s); ratio = time / plain f64"
+        "numerics: CPU seconds per run (best of 5, taking turns), {threads} thread; ratio = time / plain f64"
     );
-    let net = random_lattice(lattice);
+    let net = random_lattice(lattice, bond);
     let plan = plan_for(&net);
     println!(
-        "random {lattice}x{lattice} lattice, bond 2, f64: {} tensors, total ops 2^{:.1}",
+        "random {lattice}x{lattice} lattice, bond {bond}, f64: {} tensors, total ops 2^{:.1}",
         net.num_tensors(),
         plan.predicted.total_ops_log2
     );
-    let plain = time(&plan, &net, &unscaled(), threads);
-    let scaled = time(&plan, &net, &Numerics::float(), threads);
-    row("plain f64 (no rescaling)", plain, plain);
-    row("scaled f64", scaled, plain);
+    let t = times(&plan, &net, &[unscaled(), Numerics::float()], threads);
+    row("plain f64 (no rescaling)", t[0], t[0]);
+    row("scaled f64", t[1], t[0]);
 
     let net = grid_independent_sets(grid);
     let plan = plan_for(&net);
@@ -55,11 +55,15 @@ fn main() {
         plan.predicted.total_ops_log2,
         exact.bound_log2.unwrap_or(0.0)
     );
-    let plain = time(&plan, &net, &unscaled(), threads);
-    let scaled = time(&plan, &net, &Numerics::float(), threads);
-    let modular = time(&plan, &net, &exact, threads);
-    row("plain f64 (no rescaling; rounded)", plain, plain);
-    row("scaled f64 (rounded)", scaled, plain);
+    let t = times(
+        &plan,
+        &net,
+        &[unscaled(), Numerics::float(), exact],
+        threads,
+    );
+    let (plain, modular) = (t[0], t[2]);
+    row("plain f64 (no rescaling; rounded)", t[0], plain);
+    row("scaled f64 (rounded)", t[1], plain);
     row(&format!("exact, modulo {primes} primes"), modular, plain);
     println!(
         "  exact per prime / plain f64: {:.2}",
@@ -78,22 +82,35 @@ fn row(label: &str, t: f64, base: f64) {
     println!("  {label:<36} {t:>9.4} s   ratio {:>6.2}", t / base);
 }
 
-/// The best of three runs of every slice of `plan` in one chunk.
-fn time(plan: &Plan, net: &Network, numerics: &Numerics, threads: usize) -> f64 {
+/// For each arithmetic, the best of five runs of every slice of `plan` in
+/// one chunk; the arithmetics take turns, so a slow spell of the machine
+/// (shared with other work) hits them alike.
+fn times(plan: &Plan, net: &Network, arithmetics: &[Numerics], threads: usize) -> Vec<f64> {
     let total = plan.slice_count().unwrap();
-    (0..3)
-        .map(|_| {
+    let mut best = vec![f64::INFINITY; arithmetics.len()];
+    for _ in 0..5 {
+        for (b, numerics) in best.iter_mut().zip(arithmetics) {
             let dir = tempfile::tempdir().unwrap();
             let jobs = chunk_jobs(total, &Selection::AllChunks { of: 1 }, dir.path()).unwrap();
             let options = RunOptions {
                 threads,
                 force: true,
             };
-            let t = Instant::now();
+            let t = cpu_seconds();
             run_plan_numerics(&FaerMatMul, plan, net, &jobs, &options, numerics, &|_| {}).unwrap();
-            t.elapsed().as_secs_f64()
-        })
-        .fold(f64::INFINITY, f64::min)
+            *b = b.min(cpu_seconds() - t);
+        }
+    }
+    best
+}
+
+/// CPU seconds (user and system) this process has used.
+fn cpu_seconds() -> f64 {
+    // SAFETY: getrusage writes into the struct it is given.
+    let mut u: libc::rusage = unsafe { std::mem::zeroed() };
+    unsafe { libc::getrusage(libc::RUSAGE_SELF, &mut u) };
+    let t = |v: libc::timeval| v.tv_sec as f64 + v.tv_usec as f64 * 1e-6;
+    t(u.ru_utime) + t(u.ru_stime)
 }
 
 /// A plan without slicing for the best of a few searched trees.
@@ -102,9 +119,9 @@ fn plan_for(net: &Network) -> Plan {
     Plan::for_tree(net, "bench", &tree, &[], Dtype::F64, u64::MAX)
 }
 
-/// An n x n open lattice of bond dimension 2 with seeded random values.
-fn random_lattice(n: usize) -> Network {
-    let s = sliceplan::generate::lattice(&[n, n], 2, false).unwrap();
+/// An n x n open lattice of the given bond dimension with seeded random values.
+fn random_lattice(n: usize, bond: u64) -> Network {
+    let s = sliceplan::generate::lattice(&[n, n], bond, false).unwrap();
     let mut b = NetworkBuilder::new("lattice");
     for i in &s.indices {
         b.declare(&i.name, i.dim, None).unwrap();
