@@ -19,7 +19,7 @@ use sliceplan::cost::bytes::bytes_human;
 use sliceplan::exec::dense::{row_major_strides, View};
 use sliceplan::exec::matmul::FaerMatMul;
 use sliceplan::exec::memory::{max_resident_bytes, resident_bytes, Meter};
-use sliceplan::exec::pairwise::{contract, Context, Operand};
+use sliceplan::exec::pairwise::{contract, Context, Kernel, Operand};
 use sliceplan::exec::scalar::Scalar;
 use sliceplan::exec::{chunk_jobs, run_plan, RunOptions, Selection};
 use sliceplan::network::{Dtype, Fill, Network, NetworkBuilder, Values};
@@ -123,11 +123,13 @@ fn ours<T: Scalar>(
             indices: idx.clone(),
             dims: dims.clone(),
             strides: row_major_strides(dims),
+            exp: 0,
         };
         let ctx = Context {
             mm: &FaerMatMul,
             meter: &meter,
             threads,
+            kernel: Kernel::Scaled,
         };
         let v = contract(
             &ctx,
@@ -271,6 +273,7 @@ fn copies(quick: bool) {
             indices: idx,
             strides: row_major_strides(&dims),
             dims,
+            exp: 0,
         };
         let t = best(7, || {
             black_box(sliceplan::exec::permute::permute_sum(&v, &out, &meter).data()[0]);

@@ -1,8 +1,9 @@
 //! The partial file one chunk writes: a header, the chunk's summed output
-//! blocks, and a checksum over both. Our own format, version 1.
+//! blocks, and a checksum over both. Our own format, version 2 (version 1
+//! files are still read).
 //!
 //! ```text
-//! sliceplan-partial 1\n             magic and version
+//! sliceplan-partial 2\n             magic and version
 //! {"plan_fingerprint": ...}\n       header: one JSON object on one line
 //! <data>                             blocks, little-endian elements of the dtype
 //! sha256:<64 hex digits>\n           SHA-256 of everything above
@@ -10,10 +11,22 @@
 //!
 //! The header names the plan (by its arithmetic fingerprint), the chunk and
 //! the slice range, the dtype, the full output shape, the block shape and
-//! which blocks follow, and how many slices were summed. A file is written
-//! to a temporary name, synced, then renamed, so a reader sees either the
-//! whole file or none of it; the checksum catches anything that changed
-//! afterwards.
+//! which blocks follow, how many slices were summed, and the arithmetic the
+//! data was computed in ([`Arithmetic`]):
+//!
+//! * `{"kind": "float"}`: each block is stored as mantissas worth
+//!   `data x 2^e`, with `e` the block's entry in `exponents` (the largest
+//!   part of a non-zero block lies in `[1, 2)`), so no sum overflows the
+//!   dtype;
+//! * `{"kind": "modular", "primes": [p0, p1, ...]}`: each block holds, for
+//!   each prime in turn, the residues modulo that prime of its elements (as
+//!   whole numbers in the dtype's real parts, imaginary parts 0); the data
+//!   is `primes` times longer and `exponents` is empty.
+//!
+//! Version 1 headers have neither field: they read as float data with every
+//! exponent 0. A file is written to a temporary name, synced, then renamed,
+//! so a reader sees either the whole file or none of it; the checksum
+//! catches anything that changed afterwards.
 
 use std::ops::Range;
 use std::path::{Path, PathBuf};
@@ -29,7 +42,7 @@ use crate::network::Dtype;
 /// First line's first word.
 pub const PARTIAL_MAGIC: &str = "sliceplan-partial";
 /// The newest partial version this build reads and writes.
-pub const PARTIAL_VERSION: u32 = 1;
+pub const PARTIAL_VERSION: u32 = 2;
 const TRAILER_TAG: &[u8] = b"sha256:";
 const TRAILER_LEN: usize = 7 + 64 + 1;
 
@@ -55,6 +68,37 @@ pub struct PartialHeader {
     pub block_shape: Vec<u64>,
     /// Block numbers, in the order their data follows.
     pub blocks: Vec<u64>,
+    /// The arithmetic of the data (absent in version 1: float).
+    #[serde(default)]
+    pub arithmetic: Arithmetic,
+    /// Float data: the power of two of each block, in block order (absent
+    /// in version 1: all 0). Empty for modular data.
+    #[serde(default)]
+    pub exponents: Vec<i64>,
+}
+
+/// How the values in a partial were computed.
+#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "lowercase", deny_unknown_fields)]
+pub enum Arithmetic {
+    /// Floating point in the dtype, with power-of-two exponents.
+    #[default]
+    Float,
+    /// Whole numbers as residues modulo each of `primes` (exact counts).
+    Modular {
+        /// The primes, in the order their residues follow.
+        primes: Vec<u64>,
+    },
+}
+
+impl Arithmetic {
+    /// Sets of values per element: 1 for float, one per prime for modular.
+    pub fn copies(&self) -> u64 {
+        match self {
+            Arithmetic::Float => 1,
+            Arithmetic::Modular { primes } => primes.len() as u64,
+        }
+    }
 }
 
 impl PartialHeader {
@@ -70,11 +114,12 @@ impl PartialHeader {
             .try_fold(1u64, |a, &d| a.checked_mul(d))?;
         elems
             .checked_mul(self.blocks.len() as u64)?
+            .checked_mul(self.arithmetic.copies())?
             .checked_mul(self.dtype.bytes())
     }
 }
 
-/// A decoded partial: header and the blocks' lanes (see [`super::scalar`]).
+/// A decoded partial: header and the blocks' lanes (see [`crate::lanes`]).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Partial {
     /// The header.
@@ -140,8 +185,29 @@ pub fn decode(bytes: &[u8]) -> std::result::Result<Partial, String> {
         ));
     }
     let header_line = lines.next().ok_or("the header line is missing")?;
-    let header: PartialHeader =
+    let mut header: PartialHeader =
         serde_json::from_slice(header_line).map_err(|e| format!("the header is not valid: {e}"))?;
+    match (&header.arithmetic, version) {
+        (Arithmetic::Float, 1) if header.exponents.is_empty() => {
+            header.exponents = vec![0; header.blocks.len()];
+        }
+        (_, 1) => {
+            return Err("a version 1 header cannot name an arithmetic or exponents".into());
+        }
+        (Arithmetic::Float, _) if header.exponents.len() != header.blocks.len() => {
+            return Err(format!(
+                "the header lists {} exponents for {} blocks",
+                header.exponents.len(),
+                header.blocks.len()
+            ));
+        }
+        (Arithmetic::Modular { primes }, _)
+            if primes.is_empty() || !header.exponents.is_empty() =>
+        {
+            return Err("modular data needs at least one prime and no exponents".into());
+        }
+        _ => {}
+    }
     let data = lines.next().unwrap_or_default();
     if header.data_bytes() != Some(data.len() as u64) {
         return Err(format!(
@@ -205,6 +271,8 @@ mod tests {
                 shape: vec![2, 2],
                 block_shape: vec![2],
                 blocks: vec![0, 1],
+                arithmetic: Arithmetic::Float,
+                exponents: vec![3, -2000],
             },
             lanes: match lanes_per_element(dtype) {
                 1 => vec![1.0, 2.0, 3.0, 4.0],
@@ -220,6 +288,44 @@ mod tests {
             assert_eq!(decode(&encode(&p)).unwrap(), p);
         }
         assert_eq!(sample(Dtype::F64).block(1), &[3.0, 4.0]);
+    }
+
+    #[test]
+    fn modular_partials_hold_one_block_copy_per_prime() {
+        let mut p = sample(Dtype::F64);
+        p.header.arithmetic = Arithmetic::Modular {
+            primes: vec![2_097_143, 2_097_133],
+        };
+        p.header.exponents.clear();
+        p.lanes.extend([5.0, 6.0, 7.0, 8.0]);
+        assert_eq!(decode(&encode(&p)).unwrap(), p);
+        // Two blocks, each with its residues for both primes.
+        assert_eq!(p.block(1), &[5.0, 6.0, 7.0, 8.0]);
+        p.lanes.truncate(4);
+        assert!(decode(&encode(&p)).unwrap_err().contains("the data holds"));
+    }
+
+    #[test]
+    fn version_1_reads_as_float_with_exponent_0() {
+        // A version 1 file as the previous build wrote it: no arithmetic and
+        // no exponents in the header.
+        let mut p = sample(Dtype::F64);
+        p.header.exponents.clear();
+        let header = serde_json::to_string(&p.header).unwrap();
+        let header = header.replace(",\"arithmetic\":{\"kind\":\"float\"},\"exponents\":[]", "");
+        assert!(!header.contains("arithmetic"), "{header}");
+        let mut bytes = format!("{PARTIAL_MAGIC} 1\n{header}\n").into_bytes();
+        encode_lanes(Dtype::F64, &p.lanes, &mut bytes);
+        let digest = Sha256::digest(&bytes);
+        bytes.extend_from_slice(TRAILER_TAG);
+        for b in digest {
+            bytes.extend_from_slice(format!("{b:02x}").as_bytes());
+        }
+        bytes.push(b'\n');
+        let back = decode(&bytes).unwrap();
+        assert_eq!(back.header.arithmetic, Arithmetic::Float);
+        assert_eq!(back.header.exponents, vec![0, 0]);
+        assert_eq!(back.lanes, p.lanes);
     }
 
     #[test]

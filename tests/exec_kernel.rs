@@ -15,7 +15,7 @@ use rand_chacha::ChaCha8Rng;
 use sliceplan::exec::dense::Dense;
 use sliceplan::exec::matmul::{FaerMatMul, LoopMatMul, MatMul, MatView};
 use sliceplan::exec::memory::{Held, Meter};
-use sliceplan::exec::pairwise::{contract, Context, Operand};
+use sliceplan::exec::pairwise::{contract, Context, Kernel, Operand};
 use sliceplan::exec::permute::permute_sum;
 use sliceplan::exec::scalar::Scalar;
 use sliceplan::exec::slice::Prepared;
@@ -95,6 +95,7 @@ fn check_pair<T: Scalar, K: MatMul>(mm: &K, net: &Network, tol: f64) -> (u64, u6
         mm,
         meter: &meter,
         threads: 1,
+        kernel: Kernel::Scaled,
     };
     let v = contract(&ctx, Operand::Owned(a), Operand::Owned(b), &net.open);
     let peak = meter.peak() - start;
@@ -199,6 +200,7 @@ fn a_slice_runs_one_multiply_per_merge_and_frees_everything_else() {
             mm: &counting,
             meter: &meter,
             threads: 1,
+            kernel: Kernel::Scaled,
         },
         &[],
     );

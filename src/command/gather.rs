@@ -32,9 +32,9 @@ pub enum GatherOutcome {
         /// The result for people and scripts.
         #[serde(flatten)]
         report: ResultReport,
-        /// The values as f64 lanes (re, im pairs for complex dtypes).
+        /// The gathered values (lanes, exponent, exact digits).
         #[serde(skip)]
-        lanes: Vec<f64>,
+        gathered: Box<crate::exec::Gathered>,
     },
     /// Some slices are missing (or partials were rejected).
     Incomplete(IncompleteReport),
@@ -76,11 +76,11 @@ pub(super) fn finish(
     match gathered {
         crate::exec::GatherOutcome::Complete(g) => {
             if let Some(path) = output {
-                crate::exec::npy_out::write_npy(path, g.dtype, &g.shape, &g.lanes)?;
+                g.write_npy(path)?;
             }
             Ok(GatherOutcome::Complete {
                 report: ResultReport::new(&g, output.map(Path::to_path_buf)),
-                lanes: g.lanes,
+                gathered: Box::new(g),
             })
         }
         crate::exec::GatherOutcome::Incomplete(i) => {

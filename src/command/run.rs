@@ -165,9 +165,9 @@ pub fn run(opts: &RunOptions, hooks: &Hooks<'_>) -> Result<RunOutcome> {
     if matches!(opts.which, Which::All(_)) {
         let gathered = gather(&plan, &net, &dir)?;
         let result = finish(gathered, opts.output.as_deref(), &opts.plan, &dir, None)?;
-        if let (GatherOutcome::Complete { lanes, .. }, true) = (&result, opts.verify) {
+        if let (GatherOutcome::Complete { gathered, .. }, true) = (&result, opts.verify) {
             let whole = contract_whole(&plan, &net, opts.threads, VERIFY_MAX_BYTES)?;
-            outcome.verify = Some(compare(plan.dtype, lanes, &whole));
+            outcome.verify = Some(compare(gathered, &whole));
         }
         outcome.result = Some(result);
     }

@@ -6,15 +6,24 @@
 //! result's error does not grow with the number of terms (Neumaier,
 //! "Rundungsfehleranalyse einiger Verfahren zur Summation endlicher Summen",
 //! ZAMM 54, 1974).
+//!
+//! Terms carry power-of-two exponents (see [`super::scale`]). The sum keeps
+//! one exponent, the largest of the non-zero terms so far: a term with a
+//! larger one rescales the running sum (and its compensation) down first,
+//! a term with a smaller one is scaled down as it is added. Scaling by
+//! powers of two is exact, so the compensation stays valid.
 
 use super::scalar::Scalar;
+use super::scale::{ldexp, pow2, settle};
 
-/// A running compensated sum of tensors, in f64 lanes.
+/// A running compensated sum of tensors, in f64 lanes, worth `sum x 2^exp`.
 #[derive(Debug, Clone)]
 pub struct Accumulator {
     sum: Vec<f64>,
     comp: Vec<f64>,
     lanes_per_element: usize,
+    /// The exponent of the sum; `None` until a non-zero term arrives.
+    exp: Option<i64>,
 }
 
 impl Accumulator {
@@ -25,6 +34,7 @@ impl Accumulator {
             sum: vec![0.0; elements * lanes_per_element],
             comp: vec![0.0; elements * lanes_per_element],
             lanes_per_element,
+            exp: None,
         }
     }
 
@@ -38,7 +48,38 @@ impl Accumulator {
         (self.sum.len() * 16) as u64
     }
 
-    /// Adds `x` to lane `i`.
+    /// Prepares to add a term worth `x 2^exp` and returns the factor its
+    /// lanes must be multiplied by before [`Accumulator::add_lane`]. Call it
+    /// only for terms with a non-zero lane (zero terms need nothing), and
+    /// before any lane of the term is added.
+    pub fn align(&mut self, exp: i64) -> f64 {
+        match self.exp {
+            None => {
+                self.exp = Some(exp);
+                1.0
+            }
+            Some(e) if exp > e => {
+                let shift = e - exp;
+                for x in self.sum.iter_mut().chain(self.comp.iter_mut()) {
+                    *x = ldexp(*x, shift);
+                }
+                self.exp = Some(exp);
+                1.0
+            }
+            Some(e) if exp - e >= -1022 => pow2(exp - e),
+            // Smaller than the sum by more than the whole f64 range: the
+            // term vanishes next to it (ldexp would give 0 or a subnormal).
+            Some(e) => ldexp(1.0, exp - e),
+        }
+    }
+
+    /// The exponent of the sum (0 while it is zero).
+    pub fn exp(&self) -> i64 {
+        self.exp.unwrap_or(0)
+    }
+
+    /// Adds `x` to lane `i` (already multiplied by the factor from
+    /// [`Accumulator::align`] when exponents are in use).
     #[inline]
     pub fn add_lane(&mut self, i: usize, x: f64) {
         let s = self.sum[i];
@@ -58,24 +99,50 @@ impl Accumulator {
         }
     }
 
-    /// Adds a tensor of scalars element by element.
+    /// Adds a tensor of scalars with exponent 0, element by element.
     pub fn add_scalars<T: Scalar>(&mut self, xs: &[T]) {
+        self.add_scaled(xs, 0);
+    }
+
+    /// Adds a tensor of scalars worth `xs x 2^exp`, element by element.
+    pub fn add_scaled<T: Scalar>(&mut self, xs: &[T], exp: i64) {
+        if xs.iter().all(|x| x.max_part() == 0.0) {
+            return;
+        }
+        let f = self.align(exp);
         let w = self.lanes_per_element;
         for (i, &x) in xs.iter().enumerate() {
             let lanes = x.to_lanes();
             for (j, &l) in lanes.iter().take(w).enumerate() {
-                self.add_lane(i * w + j, l);
+                self.add_lane(i * w + j, l * f);
             }
         }
     }
 
-    /// The compensated sums.
+    /// The compensated sums, to be multiplied by `2^`[`Accumulator::exp`].
     pub fn finish(&self) -> Vec<f64> {
         self.sum
             .iter()
             .zip(&self.comp)
             .map(|(s, c)| s + c)
             .collect()
+    }
+
+    /// The compensated sums and their exponent after [`settle`]: the plain
+    /// values and exponent 0 when they fit in an f64.
+    pub fn finish_settled(&self) -> (Vec<f64>, i64) {
+        let mut lanes = self.finish();
+        let exp = settle(&mut lanes, self.exp());
+        (lanes, exp)
+    }
+
+    /// The compensated sums scaled so that the largest part lies in
+    /// `[1, 2)`, and their exponent (0 for an all-zero sum): the form partial
+    /// files store, whatever the element type's range.
+    pub fn finish_normalized(&self) -> (Vec<f64>, i64) {
+        let mut lanes = self.finish();
+        let exp = super::scale::normalize(&mut lanes, self.exp());
+        (lanes, exp)
     }
 }
 
@@ -108,5 +175,24 @@ mod tests {
         acc.add_scalars(&z);
         acc.add_scalars(&z);
         assert_eq!(acc.finish(), vec![2.0, 4.0, -6.0, 1.0]);
+    }
+
+    #[test]
+    fn terms_with_exponents_align_to_the_largest() {
+        // 3 x 2^1100 + 1 x 2^1099 - 0.5 x 2^1101 = (3 + 0.5 - 1) x 2^1100
+        // = 2.5 x 2^1100 = 1.25 x 2^1101 (exact: powers of two).
+        let mut acc = Accumulator::new(1, 1);
+        acc.add_scaled(&[1.0f64], 1099);
+        acc.add_scaled(&[3.0f64], 1100);
+        acc.add_scaled(&[0.0f64], 5000);
+        acc.add_scaled(&[-0.5f64], 1101);
+        assert_eq!(acc.finish_settled(), (vec![1.25], 1101));
+        // In range, the plain value comes back with exponent 0:
+        // 3 x 2^-2 + 1 x 2^-1 = 1.25.
+        let mut acc = Accumulator::new(1, 1);
+        acc.add_scaled(&[3.0f64], -2);
+        acc.add_scaled(&[1.0f64], -1);
+        assert_eq!(acc.finish_settled(), (vec![1.25], 0));
+        assert_eq!(acc.finish_normalized(), (vec![1.25], 0));
     }
 }

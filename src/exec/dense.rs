@@ -1,5 +1,6 @@
-//! Dense tensors (owned, row-major, metered), strided views of them, and the
-//! row-major odometer the copy routines walk with.
+//! Dense tensors (owned, row-major, metered, with a power-of-two exponent),
+//! strided views of them, and the row-major odometer the copy routines walk
+//! with.
 //!
 //! Tensors list only their *active* indices: those with dimension above one
 //! that are not sliced. An index of dimension one adds nothing to addressing,
@@ -9,31 +10,47 @@ use super::memory::Held;
 use super::scalar::Scalar;
 use crate::network::IndexId;
 
-/// An owned tensor: row-major data over `indices` (the first varies slowest).
+/// An owned tensor: row-major data over `indices` (the first varies
+/// slowest), worth `data x 2^exp` (see [`super::scale`]).
 #[derive(Debug)]
 pub struct Dense<T> {
     /// The tensor's indices in storage order.
     pub indices: Vec<IndexId>,
     /// Their dimensions.
     pub dims: Vec<usize>,
+    /// The power of two every element is multiplied by.
+    pub exp: i64,
     data: Held<T>,
 }
 
 impl<T: Scalar> Dense<T> {
-    /// Wraps metered data; `data` must hold the product of `dims` elements.
+    /// Wraps metered data with exponent 0; `data` must hold the product of
+    /// `dims` elements.
     pub fn new(indices: Vec<IndexId>, dims: Vec<usize>, data: Held<T>) -> Dense<T> {
         debug_assert_eq!(indices.len(), dims.len());
         debug_assert_eq!(dims.iter().product::<usize>(), data.as_slice().len());
         Dense {
             indices,
             dims,
+            exp: 0,
             data,
         }
     }
 
-    /// The elements in row-major order.
+    /// The same tensor with exponent `exp`.
+    pub fn with_exp(mut self, exp: i64) -> Dense<T> {
+        self.exp = exp;
+        self
+    }
+
+    /// The elements in row-major order (to be multiplied by `2^exp`).
     pub fn data(&self) -> &[T] {
         self.data.as_slice()
+    }
+
+    /// The elements, mutably.
+    pub fn data_mut(&mut self) -> &mut [T] {
+        self.data.as_mut_slice()
     }
 
     /// Bytes counted for this tensor.
@@ -49,6 +66,7 @@ impl<T: Scalar> Dense<T> {
             indices: self.indices.clone(),
             dims: self.dims.clone(),
             strides: row_major_strides(&self.dims),
+            exp: self.exp,
         }
     }
 }
@@ -67,6 +85,8 @@ pub struct View<'a, T> {
     pub dims: Vec<usize>,
     /// Their strides in elements.
     pub strides: Vec<usize>,
+    /// The power of two every element is multiplied by.
+    pub exp: i64,
 }
 
 impl<T> View<'_, T> {

@@ -63,6 +63,24 @@ pub trait MatMul: Sync {
         rhs: MatView<'_, T>,
         threads: usize,
     );
+
+    /// Adds `lhs * rhs` to `dst` (same shapes as [`MatMul::matmul`]). The
+    /// modular kernel sums its inner dimension in blocks this way without
+    /// a second buffer. The provided version multiplies into a temporary
+    /// (not metered) and adds it; the back ends here override it.
+    fn matmul_add<T: Scalar>(
+        &self,
+        dst: &mut [T],
+        lhs: MatView<'_, T>,
+        rhs: MatView<'_, T>,
+        threads: usize,
+    ) {
+        let mut tmp = vec![T::default(); dst.len()];
+        self.matmul(&mut tmp, lhs, rhs, threads);
+        for (d, t) in dst.iter_mut().zip(tmp) {
+            *d += t;
+        }
+    }
 }
 
 /// Below this many multiply-adds a product is done by the plain loop: the
@@ -81,45 +99,66 @@ impl MatMul for FaerMatMul {
         rhs: MatView<'_, T>,
         threads: usize,
     ) {
-        let (m, k, n) = (lhs.rows, lhs.cols, rhs.cols);
-        assert!(rhs.rows == k && dst.len() == m * n, "matrix shapes agree");
-        assert!(
-            lhs.in_bounds() && rhs.in_bounds(),
-            "matrix views stay inside their data"
-        );
-        if m * k * n <= SMALL_OPS {
-            return LoopMatMul.matmul(dst, lhs, rhs, 1);
-        }
-        // SAFETY: both views were checked to stay inside their slices, the
-        // destination is exactly m x n contiguous, and the borrows keep the
-        // data alive and unaliased for the call.
-        let (a, b, c) = unsafe {
-            (
-                MatRef::<T>::from_raw_parts(
-                    lhs.data.as_ptr().add(lhs.offset),
-                    m,
-                    k,
-                    lhs.row_stride as isize,
-                    lhs.col_stride as isize,
-                ),
-                MatRef::<T>::from_raw_parts(
-                    rhs.data.as_ptr().add(rhs.offset),
-                    k,
-                    n,
-                    rhs.row_stride as isize,
-                    rhs.col_stride as isize,
-                ),
-                MatMut::<T>::from_raw_parts_mut(dst.as_mut_ptr(), m, n, n as isize, 1),
-            )
-        };
-        let par = if threads > 1 {
-            Par::rayon(threads)
-        } else {
-            Par::Seq
-        };
-        let one = T::from_complex(Complex64::new(1.0, 0.0));
-        faer::linalg::matmul::matmul(c, Accum::Replace, a, b, one, par);
+        faer_product(dst, lhs, rhs, threads, Accum::Replace);
     }
+
+    fn matmul_add<T: Scalar>(
+        &self,
+        dst: &mut [T],
+        lhs: MatView<'_, T>,
+        rhs: MatView<'_, T>,
+        threads: usize,
+    ) {
+        faer_product(dst, lhs, rhs, threads, Accum::Add);
+    }
+}
+
+/// `dst = lhs * rhs` or `dst += lhs * rhs` with faer.
+fn faer_product<T: Scalar>(
+    dst: &mut [T],
+    lhs: MatView<'_, T>,
+    rhs: MatView<'_, T>,
+    threads: usize,
+    accum: Accum,
+) {
+    let (m, k, n) = (lhs.rows, lhs.cols, rhs.cols);
+    assert!(rhs.rows == k && dst.len() == m * n, "matrix shapes agree");
+    assert!(
+        lhs.in_bounds() && rhs.in_bounds(),
+        "matrix views stay inside their data"
+    );
+    if m * k * n <= SMALL_OPS {
+        return loop_product(dst, lhs, rhs, matches!(accum, Accum::Add));
+    }
+    // SAFETY: both views were checked to stay inside their slices, the
+    // destination is exactly m x n contiguous, and the borrows keep the
+    // data alive and unaliased for the call.
+    let (a, b, c) = unsafe {
+        (
+            MatRef::<T>::from_raw_parts(
+                lhs.data.as_ptr().add(lhs.offset),
+                m,
+                k,
+                lhs.row_stride as isize,
+                lhs.col_stride as isize,
+            ),
+            MatRef::<T>::from_raw_parts(
+                rhs.data.as_ptr().add(rhs.offset),
+                k,
+                n,
+                rhs.row_stride as isize,
+                rhs.col_stride as isize,
+            ),
+            MatMut::<T>::from_raw_parts_mut(dst.as_mut_ptr(), m, n, n as isize, 1),
+        )
+    };
+    let par = if threads > 1 {
+        Par::rayon(threads)
+    } else {
+        Par::Seq
+    };
+    let one = T::from_complex(Complex64::new(1.0, 0.0));
+    faer::linalg::matmul::matmul(c, accum, a, b, one, par);
 }
 
 /// The textbook triple loop: slow, obviously right, single-threaded.
@@ -134,16 +173,31 @@ impl MatMul for LoopMatMul {
         rhs: MatView<'_, T>,
         _threads: usize,
     ) {
-        let (m, k, n) = (lhs.rows, lhs.cols, rhs.cols);
-        assert!(rhs.rows == k && dst.len() == m * n, "matrix shapes agree");
-        for i in 0..m {
-            for j in 0..n {
-                let mut acc = T::default();
-                for p in 0..k {
-                    acc += lhs.at(i, p) * rhs.at(p, j);
-                }
-                dst[i * n + j] = acc;
+        loop_product(dst, lhs, rhs, false);
+    }
+
+    fn matmul_add<T: Scalar>(
+        &self,
+        dst: &mut [T],
+        lhs: MatView<'_, T>,
+        rhs: MatView<'_, T>,
+        _threads: usize,
+    ) {
+        loop_product(dst, lhs, rhs, true);
+    }
+}
+
+/// The triple loop, overwriting `dst` or adding to it.
+fn loop_product<T: Scalar>(dst: &mut [T], lhs: MatView<'_, T>, rhs: MatView<'_, T>, add: bool) {
+    let (m, k, n) = (lhs.rows, lhs.cols, rhs.cols);
+    assert!(rhs.rows == k && dst.len() == m * n, "matrix shapes agree");
+    for i in 0..m {
+        for j in 0..n {
+            let mut acc = if add { dst[i * n + j] } else { T::default() };
+            for p in 0..k {
+                acc += lhs.at(i, p) * rhs.at(p, j);
             }
+            dst[i * n + j] = acc;
         }
     }
 }

@@ -9,20 +9,29 @@
 //! with compensated summation and written as one checksummed
 //! [`crate::partial`] file; [`gather::gather`] checks coverage and sums the
 //! partials into the result, which [`npy_out`] writes as `.npy`.
+//!
+//! Numbers never overflow silently: floating point carries power-of-two
+//! exponents ([`scale`]), counting networks are contracted exactly by
+//! residues modulo primes ([`exact`], [`modular`]), and [`render`] prints
+//! values of any size.
 
 pub mod accumulate;
 pub mod chunks;
 pub mod dense;
+pub mod exact;
 pub mod gather;
 pub mod matmul;
 pub mod memory;
+pub mod modular;
 pub mod npy_out;
 pub mod output;
 pub mod pairwise;
 pub mod permute;
+pub mod render;
 pub mod report;
 pub mod runner;
 pub mod scalar;
+pub mod scale;
 pub mod slice;
 pub mod verify;
 

@@ -8,6 +8,7 @@
 
 use super::accumulate::Accumulator;
 use super::dense::{for_each_offset, row_major_strides};
+use super::modular::ResidueSum;
 use crate::network::{IndexId, Network};
 
 /// The output's shape and how blocks map into it.
@@ -113,14 +114,51 @@ impl OutputLayout {
         seen.into_iter().collect()
     }
 
-    /// Adds `block` (lanes of block number `key`) into `acc`, the full output.
+    /// Adds `block` (lanes of block number `key`, worth `block x 2^exp`)
+    /// into `acc`, the full output.
     pub fn add_block(
         &self,
         key: u64,
         block: &[f64],
+        exp: i64,
         lanes_per_element: usize,
         acc: &mut Accumulator,
     ) {
+        if block.iter().all(|&x| x == 0.0) {
+            return;
+        }
+        let factor = acc.align(exp);
+        let w = lanes_per_element;
+        self.for_each_in_block(key, |full, own| {
+            for j in 0..w {
+                acc.add_lane(full * w + j, block[own * w + j] * factor);
+            }
+        });
+    }
+
+    /// Adds a block of residues (lanes of block number `key`, prime-major as
+    /// partials hold them: all elements for the first prime, then the next)
+    /// into `sums`, the full output's residues. Only the real lane of each
+    /// element is used (`lanes_per_element` lanes per element).
+    pub fn add_residue_block(
+        &self,
+        key: u64,
+        block: &[f64],
+        lanes_per_element: usize,
+        sums: &mut ResidueSum,
+    ) {
+        let primes = sums.primes().len();
+        let per_prime = block.len() / primes.max(1);
+        let w = lanes_per_element;
+        for k in 0..primes {
+            let part = &block[k * per_prime..(k + 1) * per_prime];
+            self.for_each_in_block(key, |full, own| sums.add_at(k, full, part[own * w]));
+        }
+    }
+
+    /// Calls `f(element of the full output, element of the block)` for every
+    /// element of block `key`.
+    fn for_each_in_block(&self, key: u64, mut f: impl FnMut(usize, usize)) {
         let shape: Vec<usize> = self.shape.iter().map(|&d| d as usize).collect();
         let strides = row_major_strides(&shape);
         let mut fixed = 0usize;
@@ -136,12 +174,7 @@ impl OutputLayout {
         let bdims: Vec<usize> = axes.iter().map(|&p| shape[p]).collect();
         let full: Vec<usize> = axes.iter().map(|&p| strides[p]).collect();
         let own = row_major_strides(&bdims);
-        let w = lanes_per_element;
-        for_each_offset(&bdims, &full, &own, |f, b| {
-            for j in 0..w {
-                acc.add_lane((fixed + f) * w + j, block[b * w + j]);
-            }
-        });
+        for_each_offset(&bdims, &full, &own, |o, b| f(fixed + o, b));
     }
 }
 
@@ -164,12 +197,12 @@ mod tests {
         assert_eq!((layout.blocks(), layout.block_len()), (2, 3));
         assert_eq!(layout.block_of(&[1]), 1);
         let mut acc = Accumulator::new(6, 1);
-        layout.add_block(1, &[7.0, 8.0, 9.0], 1, &mut acc);
+        layout.add_block(1, &[7.0, 8.0, 9.0], 0, 1, &mut acc);
         assert_eq!(acc.finish(), vec![0.0, 0.0, 0.0, 7.0, 8.0, 9.0]);
         // Slicing j instead: block k is column k.
         let layout = OutputLayout::new(&net, &[1]);
         let mut acc = Accumulator::new(6, 1);
-        layout.add_block(2, &[5.0, 6.0], 1, &mut acc);
+        layout.add_block(2, &[5.0, 6.0], 0, 1, &mut acc);
         assert_eq!(acc.finish(), vec![0.0, 0.0, 5.0, 0.0, 0.0, 6.0]);
     }
 

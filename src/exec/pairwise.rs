@@ -32,8 +32,10 @@ use std::sync::Arc;
 use super::dense::{for_each_offset, Dense, View};
 use super::matmul::{MatMul, MatView};
 use super::memory::{Held, Meter};
-use super::permute::permute_sum;
+use super::modular::{Prime, INNER_BLOCK};
+use super::permute::permute_sum_mod;
 use super::scalar::Scalar;
+use super::scale::rescale;
 use crate::network::IndexId;
 
 /// An operand: an intermediate the contraction consumes, or a view of
@@ -56,8 +58,23 @@ impl<T: Scalar> Operand<'_, T> {
     }
 }
 
+/// The arithmetic of a contraction.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Kernel {
+    /// Floating point; each result is rescaled by a power of two when its
+    /// largest part leaves the headroom (see [`super::scale`]), so nothing
+    /// overflows or underflows.
+    Scaled,
+    /// Floating point as the element type gives it, without rescaling: can
+    /// overflow; kept as the baseline the numerics benchmark compares with.
+    Unscaled,
+    /// Whole numbers modulo a prime below 2^21, held in f64 (see
+    /// [`super::modular`]); exponents stay 0.
+    Modular(Prime),
+}
+
 /// What a contraction runs with: the multiply back end, the meter its
-/// buffers count on, and the threads one multiply may use.
+/// buffers count on, the threads one multiply may use, and the arithmetic.
 pub struct Context<'m, K> {
     /// The matrix multiply.
     pub mm: &'m K,
@@ -65,10 +82,24 @@ pub struct Context<'m, K> {
     pub meter: &'m Arc<Meter>,
     /// Threads for one multiply.
     pub threads: usize,
+    /// The arithmetic.
+    pub kernel: Kernel,
+}
+
+impl<K> Context<'_, K> {
+    /// The prime of modular arithmetic, if that is the kernel.
+    pub fn modulus(&self) -> Option<&Prime> {
+        match &self.kernel {
+            Kernel::Modular(p) => Some(p),
+            _ => None,
+        }
+    }
 }
 
 /// Contracts `a` with `b`, keeping the indices in `keep` (each must belong
-/// to `a` or `b`) and summing every other index of either operand.
+/// to `a` or `b`) and summing every other index of either operand. The
+/// result's exponent is the sum of the operands' (then adjusted by the
+/// rescaling of [`Kernel::Scaled`]).
 pub fn contract<T: Scalar, K: MatMul>(
     ctx: &Context<'_, K>,
     a: Operand<'_, T>,
@@ -105,7 +136,7 @@ pub fn contract<T: Scalar, K: MatMul>(
 
     let a = if copy_a {
         let order = [&batch[..], &rows, &inner].concat();
-        let c = permute_sum(&a.view(), &order, ctx.meter);
+        let c = permute_sum_mod(&a.view(), &order, ctx.meter, ctx.modulus());
         drop(a);
         Operand::Owned(c)
     } else {
@@ -113,7 +144,7 @@ pub fn contract<T: Scalar, K: MatMul>(
     };
     let b = if copy_b {
         let order = [&batch[..], &inner, &cols].concat();
-        let c = permute_sum(&b.view(), &order, ctx.meter);
+        let c = permute_sum_mod(&b.view(), &order, ctx.meter, ctx.modulus());
         drop(b);
         Operand::Owned(c)
     } else {
@@ -173,11 +204,29 @@ pub fn contract<T: Scalar, K: MatMul>(
                 col_stride: b_cs,
             };
             let block_dst = &mut dst[block * m * n..(block + 1) * m * n];
-            if flip {
-                ctx.mm
-                    .matmul(block_dst, b.transposed(), a.transposed(), ctx.threads);
-            } else {
-                ctx.mm.matmul(block_dst, a, b, ctx.threads);
+            match ctx.modulus() {
+                None => multiply(ctx, block_dst, a, b, flip, false),
+                Some(prime) => {
+                    // Inner blocks of at most 2^11 products keep every sum
+                    // below 2^53; reduce after each (see `super::modular`).
+                    for start in (0..k).step_by(INNER_BLOCK) {
+                        let len = INNER_BLOCK.min(k - start);
+                        let a_part = MatView {
+                            offset: a.offset + start * a.col_stride,
+                            cols: len,
+                            ..a
+                        };
+                        let b_part = MatView {
+                            offset: b.offset + start * b.row_stride,
+                            rows: len,
+                            ..b
+                        };
+                        multiply(ctx, block_dst, a_part, b_part, flip, start > 0);
+                        for x in block_dst.iter_mut() {
+                            *x = x.reduced(prime);
+                        }
+                    }
+                }
             }
             block += 1;
         },
@@ -189,7 +238,33 @@ pub fn contract<T: Scalar, K: MatMul>(
     };
     let indices = [&batch[..], first, second].concat();
     let dims = [&batch_dims[..], first_dims, second_dims].concat();
-    Dense::new(indices, dims, out)
+    let mut exp = av.exp + bv.exp;
+    if ctx.kernel == Kernel::Scaled {
+        exp = rescale(out.as_mut_slice(), exp);
+    }
+    Dense::new(indices, dims, out).with_exp(exp)
+}
+
+/// `dst = a b` (or `dst += a b` when `add`), computed as `(b^T a^T)^T` into
+/// a column-major result when `flip`.
+fn multiply<T: Scalar, K: MatMul>(
+    ctx: &Context<'_, K>,
+    dst: &mut [T],
+    a: MatView<'_, T>,
+    b: MatView<'_, T>,
+    flip: bool,
+    add: bool,
+) {
+    let (lhs, rhs) = if flip {
+        (b.transposed(), a.transposed())
+    } else {
+        (a, b)
+    };
+    if add {
+        ctx.mm.matmul_add(dst, lhs, rhs, ctx.threads);
+    } else {
+        ctx.mm.matmul(dst, lhs, rhs, ctx.threads);
+    }
 }
 
 /// The indices of `group`, ordered by decreasing stride in `v` (the only

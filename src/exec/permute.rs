@@ -22,6 +22,7 @@ use std::sync::Arc;
 
 use super::dense::{for_each_offset, row_major_strides, Dense, View};
 use super::memory::{Held, Meter};
+use super::modular::{Prime, ADD_BLOCK};
 use super::scalar::Scalar;
 use crate::network::IndexId;
 
@@ -110,8 +111,20 @@ fn take_group(candidates: &[usize], dims: &[usize]) -> Vec<usize> {
 
 /// Copies `src` into a new row-major tensor over `out` (every entry must be
 /// an index of `src`), summing over the indices of `src` not in `out`. The
-/// result is counted on `meter`.
+/// result is counted on `meter` and keeps the exponent of `src`.
 pub fn permute_sum<T: Scalar>(src: &View<'_, T>, out: &[IndexId], meter: &Arc<Meter>) -> Dense<T> {
+    permute_sum_mod(src, out, meter, None)
+}
+
+/// [`permute_sum`] for residues modulo `modulus` when one is given: sums
+/// are reduced after every [`ADD_BLOCK`] terms and at the end, so they stay
+/// exact (see [`super::modular`]).
+pub fn permute_sum_mod<T: Scalar>(
+    src: &View<'_, T>,
+    out: &[IndexId],
+    meter: &Arc<Meter>,
+    modulus: Option<&Prime>,
+) -> Dense<T> {
     let pos: Vec<usize> = out
         .iter()
         .map(|&e| {
@@ -135,12 +148,17 @@ pub fn permute_sum<T: Scalar>(src: &View<'_, T>, out: &[IndexId], meter: &Arc<Me
         for_each_offset(&rdims, &rstr, &rstr, |o, _| extra.push(o));
         for_each_offset(&dims, &sstr, &dstr, |so, d| {
             let mut acc = T::default();
-            for &x in &extra {
-                acc += data[so + x];
+            for part in extra.chunks(ADD_BLOCK) {
+                for &x in part {
+                    acc += data[so + x];
+                }
+                if let Some(m) = modulus {
+                    acc = acc.reduced(m);
+                }
             }
             dst[d] = acc;
         });
-        return Dense::new(out.to_vec(), dims, held);
+        return Dense::new(out.to_vec(), dims, held).with_exp(src.exp);
     }
     let n = dims.len();
     let trailing: Vec<usize> = (0..n).rev().collect();
@@ -183,7 +201,7 @@ pub fn permute_sum<T: Scalar>(src: &View<'_, T>, out: &[IndexId], meter: &Arc<Me
             }
         }
     });
-    Dense::new(out.to_vec(), dims, held)
+    Dense::new(out.to_vec(), dims, held).with_exp(src.exp)
 }
 
 #[cfg(test)]
@@ -215,6 +233,7 @@ mod tests {
             indices: vec![0, 1, 2, 3, 4],
             strides: row_major_strides(&dims),
             dims,
+            exp: 0,
         };
         let meter = Meter::new();
         let mut perm = vec![0, 1, 2, 3, 4];
@@ -252,6 +271,7 @@ mod tests {
             indices: vec![0, 1],
             dims: vec![3, 70],
             strides: vec![70, 1],
+            exp: 0,
         };
         let t = permute_sum(&v, &[1, 0], &meter);
         assert_eq!(t.dims, vec![70, 3]);
@@ -275,6 +295,7 @@ mod tests {
             indices: vec![7, 8, 9],
             dims: vec![2, 3, 4],
             strides: vec![12, 4, 1],
+            exp: 0,
         };
         let s = permute_sum(&v, &[9, 7], &meter);
         for c in 0..4 {

@@ -13,6 +13,17 @@
 //! shared by all slices), the chunk's running sum, faer's small packing
 //! buffers, and the program itself; with `k` slices at once the process
 //! holds up to `k` slices' working sets.
+//!
+//! # Arithmetic
+//!
+//! [`Numerics::for_network`] chooses it: floating point with power-of-two
+//! exponents, or, for a counting network whose bound passes the mantissa,
+//! residues modulo several primes. A modular slice is contracted once per
+//! prime, one prime after the other, in f64 (8 bytes, as much as c64 and
+//! less than c128; f32 plans are never run modular), so its peak is that of
+//! one f64 slice and within the prediction. The chunk's residue sums (4
+//! bytes per element and prime) are held beside the slices, like the float
+//! running sum.
 
 use std::collections::BTreeMap;
 use std::path::PathBuf;
@@ -25,17 +36,19 @@ use serde::Serialize;
 use super::accumulate::Accumulator;
 use super::chunks::ChunkJob;
 use super::dense::Dense;
+use super::exact::Numerics;
 use super::matmul::{FaerMatMul, MatMul};
 use super::memory::{max_resident_bytes, Meter};
+use super::modular::{Prime, ResidueSum};
 use super::output::OutputLayout;
-use super::pairwise::Context;
+use super::pairwise::{Context, Kernel};
 use super::scalar::{lanes_per_element, Scalar};
 use super::slice::Prepared;
 use crate::cost::{NodeSets, PeakModel};
 use crate::error::{Error, Result};
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::{product, Count};
-use crate::partial::{read_partial, write_partial, Partial, PartialHeader};
+use crate::partial::{read_partial, write_partial, Arithmetic, Partial, PartialHeader};
 use crate::plan::Plan;
 use crate::tree::Tree;
 
@@ -113,6 +126,8 @@ pub struct RunReport {
     pub seconds: f64,
     /// Memory.
     pub memory: MemoryFigures,
+    /// The arithmetic used, and whether the result is exact.
+    pub numerics: Numerics,
 }
 
 /// The cost model's per-slice peak in bytes for running `tree` in `order`
@@ -179,7 +194,8 @@ pub fn run_plan(
     run_plan_with(&FaerMatMul, plan, net, jobs, options, progress)
 }
 
-/// Runs `jobs` of `plan` on `net` with the given multiply back end.
+/// Runs `jobs` of `plan` on `net` with the given multiply back end, in the
+/// arithmetic [`Numerics::for_network`] chooses.
 pub fn run_plan_with<K: MatMul>(
     mm: &K,
     plan: &Plan,
@@ -188,14 +204,41 @@ pub fn run_plan_with<K: MatMul>(
     options: &RunOptions,
     progress: &(dyn Fn(Progress<'_>) + Sync),
 ) -> Result<RunReport> {
+    check_runnable(plan, net)?;
+    let numerics = Numerics::for_network(net, plan.dtype)?;
+    run_plan_numerics(mm, plan, net, jobs, options, &numerics, progress)
+}
+
+/// Runs `jobs` in the given arithmetic (benchmarks compare arithmetics on
+/// one plan with it; `gather` accepts only the partials of the arithmetic
+/// [`Numerics::for_network`] chooses).
+pub fn run_plan_numerics<K: MatMul>(
+    mm: &K,
+    plan: &Plan,
+    net: &Network,
+    jobs: &[ChunkJob],
+    options: &RunOptions,
+    numerics: &Numerics,
+    progress: &(dyn Fn(Progress<'_>) + Sync),
+) -> Result<RunReport> {
+    let n = numerics;
+    if matches!(n.arithmetic, Arithmetic::Modular { .. }) {
+        if plan.dtype.bytes() < 8 {
+            return Err(Error::Cannot(format!(
+                "modular arithmetic computes in 8-byte elements, more than the plan's {} predicts",
+                plan.dtype
+            )));
+        }
+        return run_typed::<f64, K>(mm, plan, net, jobs, options, n, progress);
+    }
     match plan.dtype {
-        Dtype::F32 => run_typed::<f32, K>(mm, plan, net, jobs, options, progress),
-        Dtype::F64 => run_typed::<f64, K>(mm, plan, net, jobs, options, progress),
+        Dtype::F32 => run_typed::<f32, K>(mm, plan, net, jobs, options, n, progress),
+        Dtype::F64 => run_typed::<f64, K>(mm, plan, net, jobs, options, n, progress),
         Dtype::C64 => {
-            run_typed::<num_complex::Complex32, K>(mm, plan, net, jobs, options, progress)
+            run_typed::<num_complex::Complex32, K>(mm, plan, net, jobs, options, n, progress)
         }
         Dtype::C128 => {
-            run_typed::<num_complex::Complex64, K>(mm, plan, net, jobs, options, progress)
+            run_typed::<num_complex::Complex64, K>(mm, plan, net, jobs, options, n, progress)
         }
     }
 }
@@ -229,19 +272,62 @@ struct Setup<'p, T, K> {
     layout: OutputLayout,
     process: Arc<Meter>,
     limit: u64,
+    numerics: &'p Numerics,
+    /// The primes of modular arithmetic (empty for float).
+    primes: Vec<Prime>,
+}
+
+/// One slice's output block.
+enum SliceValue<T> {
+    /// Floating point, with its exponent.
+    Float(Dense<T>),
+    /// Residues, prime-major (all elements for the first prime, then the next).
+    Residues(Vec<f64>),
+}
+
+/// A chunk's running sum of one output block.
+enum BlockSum {
+    Float(Accumulator),
+    Modular(ResidueSum),
+}
+
+impl BlockSum {
+    fn bytes(&self) -> u64 {
+        match self {
+            BlockSum::Float(a) => a.bytes(),
+            BlockSum::Modular(r) => r.bytes(),
+        }
+    }
 }
 
 impl<T: Scalar, K: MatMul> Setup<'_, T, K> {
     /// Runs slice `s`; returns its block number, block and tracked peak.
-    fn slice(&self, s: u64, threads: usize) -> Result<(u64, Dense<T>, u64)> {
+    fn slice(&self, s: u64, threads: usize) -> Result<(u64, SliceValue<T>, u64)> {
         let values = self.plan.slice_assignment(s);
         let meter = Meter::child(&self.process);
-        let ctx = Context {
+        let mut ctx = Context {
             mm: self.mm,
             meter: &meter,
             threads,
+            kernel: if self.numerics.scaled {
+                Kernel::Scaled
+            } else {
+                Kernel::Unscaled
+            },
         };
-        let out = self.prepared.run_slice(&ctx, &values);
+        let out = if self.primes.is_empty() {
+            SliceValue::Float(self.prepared.run_slice(&ctx, &values))
+        } else {
+            // One prime after the other: each one's buffers are gone before
+            // the next starts, so the peak is that of one contraction.
+            let mut residues = Vec::with_capacity(self.primes.len() * self.prepared.block_len());
+            for prime in &self.primes {
+                ctx.kernel = Kernel::Modular(*prime);
+                let block = self.prepared.run_slice(&ctx, &values);
+                residues.extend(block.data().iter().map(|x| x.to_lanes()[0]));
+            }
+            SliceValue::Residues(residues)
+        };
         let peak = meter.peak();
         if peak > self.limit {
             return Err(Error::Cannot(format!(
@@ -276,7 +362,15 @@ impl<T: Scalar, K: MatMul> JobContext<'_, '_, T, K> {
         let setup = self.setup;
         let plan = setup.plan;
         let len = job.slices.end - job.slices.start;
-        if !self.force && existing_is_valid(job, self.fingerprint, plan.dtype, &setup.layout) {
+        if !self.force
+            && existing_is_valid(
+                job,
+                self.fingerprint,
+                plan.dtype,
+                &setup.layout,
+                &setup.numerics.arithmetic,
+            )
+        {
             (self.progress)(Progress::Slices(len));
             (self.progress)(Progress::ChunkDone { job, skipped: true });
             return Ok(JobStats {
@@ -288,14 +382,15 @@ impl<T: Scalar, K: MatMul> JobContext<'_, '_, T, K> {
         }
         let w = lanes_per_element(plan.dtype);
         let block_len = setup.prepared.block_len();
-        let mut blocks: BTreeMap<u64, Accumulator> = BTreeMap::new();
+        let primes: Vec<u64> = setup.primes.iter().map(|p| p.p).collect();
+        let mut blocks: BTreeMap<u64, BlockSum> = BTreeMap::new();
         let (mut peak, mut acc_bytes) = (0u64, 0u64);
         let mut s = job.slices.start;
         while s < job.slices.end {
             let e = (s + at_once as u64).min(job.slices.end);
             // Results are added in slice order, so the sum does not depend on
             // which thread finished first.
-            let results: Vec<Result<(u64, Dense<T>, u64)>> = if e - s > 1 {
+            let results: Vec<Result<(u64, SliceValue<T>, u64)>> = if e - s > 1 {
                 (s..e)
                     .into_par_iter()
                     .map(|x| setup.slice(x, gemm_threads))
@@ -306,18 +401,47 @@ impl<T: Scalar, K: MatMul> JobContext<'_, '_, T, K> {
             for r in results {
                 let (key, out, p) = r?;
                 peak = peak.max(p);
-                blocks
-                    .entry(key)
-                    .or_insert_with(|| Accumulator::new(block_len, w))
-                    .add_scalars(out.data());
+                let sum = blocks.entry(key).or_insert_with(|| {
+                    if primes.is_empty() {
+                        BlockSum::Float(Accumulator::new(block_len, w))
+                    } else {
+                        BlockSum::Modular(ResidueSum::new(block_len, &primes))
+                    }
+                });
+                match (sum, out) {
+                    (BlockSum::Float(acc), SliceValue::Float(d)) => acc.add_scaled(d.data(), d.exp),
+                    (BlockSum::Modular(sum), SliceValue::Residues(r)) => sum.add_lanes(&r),
+                    _ => unreachable!("one arithmetic per run"),
+                }
             }
-            acc_bytes = acc_bytes.max(blocks.values().map(Accumulator::bytes).sum());
+            acc_bytes = acc_bytes.max(blocks.values().map(BlockSum::bytes).sum());
             (self.progress)(Progress::Slices(e - s));
             s = e;
         }
-        let mut lanes = Vec::with_capacity(blocks.len() * block_len * w);
-        for acc in blocks.values() {
-            lanes.extend(acc.finish());
+        let mut lanes = Vec::with_capacity(blocks.len() * block_len * w * primes.len().max(1));
+        let mut exponents = Vec::new();
+        for sum in blocks.values() {
+            match sum {
+                BlockSum::Float(acc) => {
+                    let (l, exp) = acc.finish_normalized();
+                    if l.iter().any(|x| !x.is_finite()) {
+                        return Err(Error::Cannot(format!(
+                            "slices {}..{} sum to NaN or an infinite value; nothing was written (the inputs are finite, so this is a bug: please report it with the plan)",
+                            job.slices.start, job.slices.end
+                        )));
+                    }
+                    lanes.extend(l);
+                    exponents.push(exp);
+                }
+                BlockSum::Modular(sum) => {
+                    for r in sum.lanes() {
+                        lanes.push(r);
+                        if w == 2 {
+                            lanes.push(0.0);
+                        }
+                    }
+                }
+            }
         }
         let partial = Partial {
             header: PartialHeader {
@@ -330,6 +454,8 @@ impl<T: Scalar, K: MatMul> JobContext<'_, '_, T, K> {
                 shape: setup.layout.shape.clone(),
                 block_shape: setup.layout.block_shape.clone(),
                 blocks: blocks.keys().copied().collect(),
+                arithmetic: setup.numerics.arithmetic.clone(),
+                exponents,
             },
             lanes,
         };
@@ -353,6 +479,7 @@ fn run_typed<T: Scalar, K: MatMul>(
     net: &Network,
     jobs: &[ChunkJob],
     options: &RunOptions,
+    numerics: &Numerics,
     progress: &(dyn Fn(Progress<'_>) + Sync),
 ) -> Result<RunReport> {
     check_runnable(plan, net)?;
@@ -378,6 +505,11 @@ fn run_typed<T: Scalar, K: MatMul>(
         layout,
         process,
         limit,
+        numerics,
+        primes: match &numerics.arithmetic {
+            Arithmetic::Float => Vec::new(),
+            Arithmetic::Modular { primes } => primes.iter().map(|&p| Prime::new(p)).collect(),
+        },
     };
     let threads = options.threads.max(1);
     let at_once = slices_at_once(plan, threads);
@@ -454,16 +586,18 @@ fn run_typed<T: Scalar, K: MatMul>(
             tracked_process_peak: setup.process.peak(),
             max_resident: max_resident_bytes(),
         },
+        numerics: numerics.clone(),
     })
 }
 
 /// True when the job's partial exists, passes its checksum and belongs to
-/// this plan, slice range and output.
+/// this plan, slice range, output and arithmetic.
 fn existing_is_valid(
     job: &ChunkJob,
     fingerprint: &str,
     dtype: Dtype,
     layout: &OutputLayout,
+    arithmetic: &Arithmetic,
 ) -> bool {
     match read_partial(&job.path) {
         Ok(p) => {
@@ -473,6 +607,7 @@ fn existing_is_valid(
                 && h.dtype == dtype
                 && h.shape == layout.shape
                 && h.block_shape == layout.block_shape
+                && &h.arithmetic == arithmetic
         }
         Err(_) => false,
     }

@@ -1,6 +1,8 @@
 //! The element types the executor computes in (f32, f64, complex64,
-//! complex128) and how they convert to and from the f64 lanes used for
-//! summing, storing and reporting.
+//! complex128), how they convert to and from the f64 lanes used for
+//! summing, storing and reporting, and the three element-wise operations
+//! scaled and modular arithmetic need (largest part, power-of-two scaling,
+//! reduction modulo a prime).
 
 use std::ops::{Add, AddAssign, Mul};
 
@@ -37,6 +39,21 @@ pub trait Scalar:
 
     /// The value's lanes: `[re, im]`; only the first is used for real types.
     fn to_lanes(self) -> [f64; 2];
+
+    /// The binary exponent one past the largest finite value of a part
+    /// (128 for f32 parts, 1024 for f64 parts): values stay below 2^MAX_EXP.
+    const MAX_EXP: i64;
+
+    /// The largest absolute value of the parts (`max(|re|, |im|)`).
+    fn max_part(self) -> f64;
+
+    /// The value times `factor`, a power of two that the part type holds.
+    fn scaled(self, factor: f64) -> Self;
+
+    /// Each part reduced modulo the prime `m` (see
+    /// [`super::modular::Prime::reduce`]); parts must be whole numbers in
+    /// `0..2^53`.
+    fn reduced(self, m: &super::modular::Prime) -> Self;
 }
 
 impl Scalar for f32 {
@@ -46,6 +63,16 @@ impl Scalar for f32 {
     }
     fn to_lanes(self) -> [f64; 2] {
         [self as f64, 0.0]
+    }
+    const MAX_EXP: i64 = 128;
+    fn max_part(self) -> f64 {
+        self.abs() as f64
+    }
+    fn scaled(self, factor: f64) -> Self {
+        self * factor as f32
+    }
+    fn reduced(self, m: &super::modular::Prime) -> Self {
+        m.reduce(self as f64) as f32
     }
 }
 
@@ -57,6 +84,16 @@ impl Scalar for f64 {
     fn to_lanes(self) -> [f64; 2] {
         [self, 0.0]
     }
+    const MAX_EXP: i64 = 1024;
+    fn max_part(self) -> f64 {
+        self.abs()
+    }
+    fn scaled(self, factor: f64) -> Self {
+        self * factor
+    }
+    fn reduced(self, m: &super::modular::Prime) -> Self {
+        m.reduce(self)
+    }
 }
 
 impl Scalar for Complex32 {
@@ -67,6 +104,20 @@ impl Scalar for Complex32 {
     fn to_lanes(self) -> [f64; 2] {
         [self.re as f64, self.im as f64]
     }
+    const MAX_EXP: i64 = 128;
+    fn max_part(self) -> f64 {
+        self.re.abs().max(self.im.abs()) as f64
+    }
+    fn scaled(self, factor: f64) -> Self {
+        let f = factor as f32;
+        Complex32::new(self.re * f, self.im * f)
+    }
+    fn reduced(self, m: &super::modular::Prime) -> Self {
+        Complex32::new(
+            m.reduce(self.re as f64) as f32,
+            m.reduce(self.im as f64) as f32,
+        )
+    }
 }
 
 impl Scalar for Complex64 {
@@ -76,6 +127,16 @@ impl Scalar for Complex64 {
     }
     fn to_lanes(self) -> [f64; 2] {
         [self.re, self.im]
+    }
+    const MAX_EXP: i64 = 1024;
+    fn max_part(self) -> f64 {
+        self.re.abs().max(self.im.abs())
+    }
+    fn scaled(self, factor: f64) -> Self {
+        Complex64::new(self.re * factor, self.im * factor)
+    }
+    fn reduced(self, m: &super::modular::Prime) -> Self {
+        Complex64::new(m.reduce(self.re), m.reduce(self.im))
     }
 }
 

@@ -15,8 +15,9 @@ use super::dense::{row_major_strides, Dense, View};
 use super::matmul::MatMul;
 use super::memory::{Held, Meter};
 use super::pairwise::{contract, Context, Operand};
-use super::permute::permute_sum;
+use super::permute::permute_sum_mod;
 use super::scalar::Scalar;
+use super::scale::{floor_log2, headroom, ldexp};
 use crate::cost::NodeSets;
 use crate::error::{Error, Result};
 use crate::network::{values::materialize, IndexId, Network, Values};
@@ -38,6 +39,8 @@ pub struct Prepared<T> {
     /// The open indices that are active, in output order.
     open_active: Vec<IndexId>,
     inputs: Vec<Held<T>>,
+    /// Per input tensor: the power of two its stored values are multiplied by.
+    input_exps: Vec<i64>,
 }
 
 impl<T: Scalar> Prepared<T> {
@@ -72,6 +75,7 @@ impl<T: Scalar> Prepared<T> {
             .map(|s| s.iter().copied().filter(active).collect())
             .collect();
         let mut inputs = Vec::with_capacity(net.num_tensors());
+        let mut input_exps = Vec::with_capacity(net.num_tensors());
         for t in 0..net.num_tensors() {
             let complex = materialize(net, t)?;
             // Random fills are documented to use only their real part in a
@@ -87,8 +91,9 @@ impl<T: Scalar> Prepared<T> {
                     ),
                 ));
             }
-            let values: Vec<T> = complex.into_iter().map(T::from_complex).collect();
+            let (values, exp) = scaled_input::<T>(net, t, complex)?;
             inputs.push(Held::adopt(values, process));
+            input_exps.push(exp);
         }
         Ok(Prepared {
             leaves: tree.leaves(),
@@ -100,6 +105,7 @@ impl<T: Scalar> Prepared<T> {
             dims,
             sliced: sliced.to_vec(),
             inputs,
+            input_exps,
         })
     }
 
@@ -125,6 +131,7 @@ impl<T: Scalar> Prepared<T> {
             indices: Vec::new(),
             dims: Vec::new(),
             strides: Vec::new(),
+            exp: self.input_exps[t],
         };
         for (k, &e) in idx.iter().enumerate() {
             if let Some(p) = self.sliced.iter().position(|&x| x == e) {
@@ -149,8 +156,8 @@ impl<T: Scalar> Prepared<T> {
     }
 
     /// Contracts the slice whose sliced indices take `values`; returns its
-    /// output block, row-major over the active open indices in output order.
-    /// Every buffer counts on `ctx.meter`.
+    /// output block, row-major over the active open indices in output order,
+    /// with its exponent. Every buffer counts on `ctx.meter`.
     pub fn run_slice<K: MatMul>(&self, ctx: &Context<'_, K>, values: &[u64]) -> Dense<T> {
         let n = self.leaves;
         let mut slots: Vec<Option<Dense<T>>> = (0..n + self.merges.len()).map(|_| None).collect();
@@ -164,10 +171,61 @@ impl<T: Scalar> Prepared<T> {
         match root {
             Operand::Owned(d) if d.indices == self.open_active => d,
             other => {
-                let out = permute_sum(&other.view(), &self.open_active, ctx.meter);
+                let out =
+                    permute_sum_mod(&other.view(), &self.open_active, ctx.meter, ctx.modulus());
                 drop(other);
                 out
             }
         }
     }
+}
+
+/// Tensor `t`'s values in `T` with their exponent: values whose largest part
+/// leaves the headroom of `T` are scaled by a power of two first (in f64, so
+/// an entry of 1e300 reaches an f32 tensor as a mantissa and an exponent).
+/// Real dtypes use only the real parts. Refuses NaN and infinite values.
+fn scaled_input<T: Scalar>(
+    net: &Network,
+    t: usize,
+    mut values: Vec<num_complex::Complex64>,
+) -> Result<(Vec<T>, i64)> {
+    let complex = T::DTYPE.is_complex();
+    let part_max = |z: &num_complex::Complex64| {
+        if complex {
+            z.re.abs().max(z.im.abs())
+        } else {
+            z.re.abs()
+        }
+    };
+    let mut max = 0.0f64;
+    for z in &values {
+        let m = part_max(z);
+        if !m.is_finite() {
+            return Err(Error::in_source(
+                &net.name,
+                format!(
+                    "tensor '{}' holds {}, which cannot be contracted; give finite values",
+                    net.tensors[t].name,
+                    if m.is_nan() {
+                        "NaN"
+                    } else {
+                        "an infinite value"
+                    }
+                ),
+            ));
+        }
+        max = max.max(m);
+    }
+    let mut exp = 0;
+    if max > 0.0 {
+        let top = floor_log2(max);
+        let h = headroom::<T>();
+        if !(-h..=h).contains(&top) {
+            for z in &mut values {
+                *z = num_complex::Complex64::new(ldexp(z.re, -top), ldexp(z.im, -top));
+            }
+            exp = top;
+        }
+    }
+    Ok((values.into_iter().map(T::from_complex).collect(), exp))
 }

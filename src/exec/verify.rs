@@ -1,15 +1,19 @@
 //! `--verify`: contract the whole network without slicing, with the plan's
-//! tree and order, and compare with the gathered value.
+//! tree and order, in scaled floating point (whatever arithmetic the run
+//! used, so an exact count is checked by an independent float contraction),
+//! and compare with the gathered value.
 
 use serde::Serialize;
 
 use super::accumulate::Accumulator;
+use super::gather::Gathered;
 use super::matmul::FaerMatMul;
 use super::memory::Meter;
 use super::output::OutputLayout;
-use super::pairwise::Context;
+use super::pairwise::{Context, Kernel};
 use super::runner::{check_runnable, predicted_slice_peak_bytes};
 use super::scalar::{lanes_per_element, Scalar};
+use super::scale::{floor_log2, ldexp};
 use super::slice::Prepared;
 use crate::error::{Error, Result};
 use crate::network::{Dtype, Network};
@@ -20,8 +24,10 @@ use crate::plan::Plan;
 pub struct Whole {
     /// Output shape.
     pub shape: Vec<u64>,
-    /// Values as lanes, row-major.
+    /// Values as lanes, row-major, to be multiplied by `2^exponent`.
     pub lanes: Vec<f64>,
+    /// Their power of two (0 whenever the values fit in an f64).
+    pub exponent: i64,
     /// Predicted peak bytes without slicing (cost model, executor rule).
     pub predicted_peak: u64,
     /// Bytes held at most, by the executor's count.
@@ -59,7 +65,7 @@ pub fn contract_whole(plan: &Plan, net: &Network, threads: usize, max_bytes: u64
         .num_threads(threads.max(1))
         .build()
         .map_err(|e| Error::Cannot(format!("cannot start {threads} threads: {e}")))?;
-    let (lanes, measured) = pool.install(|| match plan.dtype {
+    let ((lanes, exponent), measured) = pool.install(|| match plan.dtype {
         Dtype::F32 => whole_typed::<f32>(plan, net, &tree, threads),
         Dtype::F64 => whole_typed::<f64>(plan, net, &tree, threads),
         Dtype::C64 => whole_typed::<num_complex::Complex32>(plan, net, &tree, threads),
@@ -68,6 +74,7 @@ pub fn contract_whole(plan: &Plan, net: &Network, threads: usize, max_bytes: u64
     Ok(Whole {
         shape: OutputLayout::new(net, &[]).shape,
         lanes,
+        exponent,
         predicted_peak: predicted,
         measured_peak: measured,
     })
@@ -78,7 +85,7 @@ fn whole_typed<T: Scalar>(
     net: &Network,
     tree: &crate::tree::Tree,
     threads: usize,
-) -> Result<(Vec<f64>, u64)> {
+) -> Result<((Vec<f64>, i64), u64)> {
     let process = Meter::new();
     let prepared = Prepared::<T>::new(net, tree, &plan.order, &[], &process)?;
     let meter = Meter::child(&process);
@@ -86,11 +93,12 @@ fn whole_typed<T: Scalar>(
         mm: &FaerMatMul,
         meter: &meter,
         threads: threads.max(1),
+        kernel: Kernel::Scaled,
     };
     let out = prepared.run_slice(&ctx, &[]);
     let mut acc = Accumulator::new(out.data().len(), lanes_per_element(plan.dtype));
-    acc.add_scalars(out.data());
-    Ok((acc.finish(), meter.peak()))
+    acc.add_scaled(out.data(), out.exp);
+    Ok((acc.finish_settled(), meter.peak()))
 }
 
 /// The tolerance on the relative difference for a dtype: single precision
@@ -118,9 +126,31 @@ pub fn relative_difference(a: &[f64], b: &[f64]) -> f64 {
     }
 }
 
-/// Compares a gathered result with the unsliced contraction.
-pub fn compare(dtype: Dtype, gathered: &[f64], whole: &Whole) -> Verification {
-    let rel = relative_difference(gathered, &whole.lanes);
+/// Compares a gathered result with the unsliced contraction, both brought
+/// to their larger exponent.
+pub fn compare(gathered: &Gathered, whole: &Whole) -> Verification {
+    let dtype = gathered.dtype;
+    // The larger of the two largest parts goes to [1, 2), so that squares
+    // cannot overflow whatever the exponents.
+    let top_of = |lanes: &[f64], exp: i64| {
+        let m = lanes.iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        (m > 0.0 && m.is_finite()).then(|| floor_log2(m) + exp)
+    };
+    let top = match (
+        top_of(&gathered.lanes, gathered.exponent),
+        top_of(&whole.lanes, whole.exponent),
+    ) {
+        (Some(a), Some(b)) => a.max(b),
+        (Some(a), None) | (None, Some(a)) => a,
+        (None, None) => 0,
+    };
+    let at = |lanes: &[f64], exp: i64| -> Vec<f64> {
+        lanes.iter().map(|&x| ldexp(x, exp - top)).collect()
+    };
+    let rel = relative_difference(
+        &at(&gathered.lanes, gathered.exponent),
+        &at(&whole.lanes, whole.exponent),
+    );
     Verification {
         relative_difference: rel,
         tolerance: tolerance(dtype),
