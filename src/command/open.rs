@@ -26,6 +26,11 @@ pub fn open_plan(path: &Path, network: Option<&Path>) -> Result<(Plan, Network)>
         other => other,
     })?;
     plan.check_against(&net).map_err(|e| {
+        // A side file that changed or broke since planning changes the
+        // fingerprint; name the file rather than the fingerprints.
+        if let Err(values) = crate::network::values::check_value_files(&net) {
+            return values;
+        }
         // The plan's own checks name it "plan"; name the file instead.
         let reason = match &e {
             Error::Input { location, message } if location.source == "plan" => message.clone(),

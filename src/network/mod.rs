@@ -255,9 +255,10 @@ impl Network {
         self.tensors.iter().all(|t| t.values.is_some())
     }
 
-    /// A stable fingerprint of the structure: tensor names and order, their
-    /// indices with dimensions, and the open indices. Independent of how the
-    /// file was written (whitespace, comments, key order) and of the values.
+    /// A stable fingerprint of the structure and the values: tensor names
+    /// and order, their indices with dimensions, where their values come
+    /// from (by content), the open indices and the dtype. Independent of how
+    /// the file was written (whitespace, comments, key order).
     pub fn fingerprint(&self) -> String {
         fingerprint::fingerprint(self)
     }
