@@ -12,7 +12,7 @@
 #
 # Prints one line per target: executions, seconds, and crashes found. A
 # crash leaves its input under fuzz/artifacts/TARGET/; copy it to
-# tests/fuzz-regressions/TARGET/ once fixed, and tests/fuzz_regressions.rs
+# tests/fuzz-regressions/TARGET/ once fixed, and tests/integration/fuzz_regressions.rs
 # replays it in every test run. The table is also appended to
 # fuzz/results.tsv.
 set -euo pipefail

@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# Runs the Slurm end-to-end tests (tests/slurm_e2e.rs) against the local
+# Runs the Slurm end-to-end tests (tests/integration/slurm_e2e.rs) against the local
 # single-node Slurm of scripts/local-slurm.sh. Starts Slurm when it is not
 # running, and then stops it again at the end (also on failure); a Slurm
 # that was already running is left running. Extra arguments go to the test
@@ -11,4 +11,4 @@ if ! scripts/local-slurm.sh status >/dev/null 2>&1; then
     scripts/local-slurm.sh start
 fi
 scripts/local-slurm.sh check
-SLICEPLAN_SLURM_E2E=1 cargo test --test slurm_e2e -- --ignored --test-threads=1 --nocapture "$@"
+SLICEPLAN_SLURM_E2E=1 cargo test --test integration -- --ignored --test-threads=1 --nocapture slurm_e2e:: "$@"

@@ -3,7 +3,7 @@
 //! Each function takes arbitrary bytes, runs one parser and what the tool
 //! derives right after it, and must return without panicking, hanging or
 //! allocating without bound, whatever the bytes. The fuzz targets call
-//! these, and `tests/fuzz_regressions.rs` replays every input the fuzzer
+//! these, and `tests/integration/fuzz_regressions.rs` replays every input the fuzzer
 //! once crashed on through the same functions.
 
 use std::path::Path;

@@ -1,0 +1,170 @@
+//! The slicing search against exhaustive enumeration and explicit slicing.
+
+use crate::support::reference as common;
+
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use sliceplan::cost::memory::memory_need;
+use sliceplan::cost::{metrics, NodeSets};
+use sliceplan::generate::lattice;
+use sliceplan::network::{Dtype, IndexId, Network, NetworkBuilder};
+use sliceplan::slicing::{find_slices, SliceOptions};
+use sliceplan::tree::Tree;
+
+/// Random networks of 4-7 tensors over a pool of indices with dims 2-4,
+/// some open (so open indices are sliced too).
+fn random_network(rng: &mut ChaCha8Rng) -> Network {
+    let shape = common::RandomShape {
+        tensors: 4..=7,
+        pool: 4..=9,
+        dims: 2..=4,
+        legs: 2..=4,
+        open: 0.06,
+    };
+    common::random_network(rng, &shape)
+}
+
+/// Every slice set of at most three indices, priced directly: the fewest
+/// slices (then fewest total ops) that fit. Independent enumeration.
+fn enumerate_min_slices(
+    net: &Network,
+    tree: &Tree,
+    opts: &SliceOptions,
+) -> Option<(u128, Vec<IndexId>)> {
+    let sets = NodeSets::new(net, tree);
+    let m = net.num_indices();
+    let mut best: Option<(u128, Vec<IndexId>)> = None;
+    let mut consider = |k: Vec<IndexId>| {
+        let need = memory_need(&sets, net, &k, opts.dtype, opts.slices_at_once);
+        if need.total_bytes() <= opts.budget_bytes as f64 {
+            let slices: u128 = k.iter().map(|&e| net.indices[e].dim as u128).product();
+            if best.as_ref().is_none_or(|(s, _)| slices < *s) {
+                best = Some((slices, k));
+            }
+        }
+    };
+    consider(vec![]);
+    for a in 0..m {
+        consider(vec![a]);
+        for b in a + 1..m {
+            consider(vec![a, b]);
+            for c in b + 1..m {
+                consider(vec![a, b, c]);
+            }
+        }
+    }
+    best
+}
+
+use common::random_tree;
+
+#[test]
+fn fewest_slices_matches_enumeration_of_sets_up_to_three() {
+    let mut rng = ChaCha8Rng::seed_from_u64(31);
+    let mut compared = 0;
+    for case in 0..200 {
+        let net = random_network(&mut rng);
+        let tree = random_tree(&mut rng, net.num_tensors());
+        let sets = NodeSets::new(&net, &tree);
+        let unsliced = memory_need(&sets, &net, &[], Dtype::F64, 1).total_bytes();
+        // A budget between the fixed part and the unsliced need.
+        let fixed = memory_need(&sets, &net, &[], Dtype::F64, 1).fixed_bytes();
+        let budget = (fixed + (unsliced - fixed) * rng.random_range(0.05..0.9)) as u64;
+        let mut opts = SliceOptions::new(budget, Dtype::F64);
+        opts.cover = case % 2 == 0;
+        let found = find_slices(&net, &tree, &opts, None, 0);
+        let want = enumerate_min_slices(&net, &tree, &opts);
+        match (found.fewest_slices.as_ref(), want) {
+            (Some(p), Some((slices, _))) => {
+                // Sets of more than three indices may beat the enumeration.
+                assert!(p.slices.exact.unwrap() <= slices, "case {case}");
+                if p.sliced.len() <= 3 {
+                    assert_eq!(p.slices.exact, Some(slices), "case {case}");
+                }
+                compared += 1;
+            }
+            (None, Some((slices, k))) => {
+                panic!("case {case}: enumeration fits with {slices} slices {k:?}")
+            }
+            (Some(p), None) => assert!(p.sliced.len() > 3, "case {case}"),
+            (None, None) => {}
+        }
+        // The chosen set fits and its reported numbers are its own.
+        if let Some((p, _)) = &found.chosen {
+            assert!(p.need.total_bytes() <= budget as f64);
+            let again = NodeSets::new(&net, &found.tree).evaluate_sliced(
+                &net,
+                &p.sliced,
+                sliceplan::cost::PeakModel::EXECUTOR,
+            );
+            assert_eq!(again.total_ops, p.total_ops);
+        }
+    }
+    assert!(compared > 100, "only {compared} cases compared");
+}
+
+#[test]
+fn total_ops_with_slicing_is_the_sum_over_explicitly_fixed_networks() {
+    // For every assignment of the sliced indices, build the network with
+    // those indices fixed (removed from every tensor) and sum the ops of the
+    // same tree: the sum equals slices x per-slice ops (identity; small case).
+    let net = lattice(&[3, 3], 2, false).unwrap();
+    let tree = Tree::left_deep(9);
+    let sliced = vec![net.index_id("x1_0").unwrap(), net.index_id("y1_1").unwrap()];
+    let s = NodeSets::new(&net, &tree).evaluate_sliced(&net, &sliced, Default::default());
+    let mut sum: u128 = 0;
+    for _assignment in 0..4 {
+        let mut b = NetworkBuilder::new("fixed");
+        for t in &net.tensors {
+            let keep: Vec<String> = t
+                .indices
+                .iter()
+                .filter(|e| !sliced.contains(e))
+                .map(|&e| net.indices[e].name.clone())
+                .collect();
+            for name in &keep {
+                b.declare(name, 2, None).unwrap();
+            }
+            b.tensor(&t.name, &keep, None, None).unwrap();
+        }
+        sum += metrics(&b.build().unwrap(), &tree).total_ops.exact.unwrap();
+    }
+    assert_eq!(s.total_ops.exact, Some(sum));
+}
+
+#[test]
+fn frontier_peak_never_increases() {
+    let net = lattice(&[6, 6], 2, false).unwrap();
+    let tree = Tree::left_deep(36);
+    let sets = NodeSets::new(&net, &tree);
+    let need = memory_need(&sets, &net, &[], Dtype::C64, 1);
+    let opts = SliceOptions::new(
+        (need.fixed_bytes() + need.per_slice_peak_bytes / 16.0) as u64,
+        Dtype::C64,
+    );
+    let r = find_slices(&net, &tree, &opts, None, 0);
+    assert!(r.chosen.is_some());
+    assert!(r.frontier.len() >= 3);
+    for w in r.frontier.windows(2) {
+        assert!(w[1].per_slice_peak_bytes <= w[0].per_slice_peak_bytes);
+        assert!(w[1].slices_log2 >= w[0].slices_log2);
+    }
+    // The first row is the unsliced tree: overhead exactly 1.
+    assert_eq!(r.frontier[0].slices, "1");
+    assert!((r.frontier[0].overhead - 1.0).abs() < 1e-12);
+    // The cover programme's bound never exceeds what was found.
+    let bound = r.cover.expect("cover ran").min_slices_log2;
+    assert!(bound <= r.fewest_slices.unwrap().slices.log2 + 1e-9);
+}
+
+#[test]
+fn output_larger_than_the_budget_cannot_fit() {
+    // Open output of 2^20 elements (c64: 8 MiB) against a 1 MiB budget.
+    let net =
+        sliceplan::formats::einsum::network_from_einsum("ab,bc->ac", Some(1024), &[]).unwrap();
+    let tree = Tree::left_deep(2);
+    let opts = SliceOptions::new(1 << 20, Dtype::C64);
+    let r = find_slices(&net, &tree, &opts, None, 0);
+    assert!(r.chosen.is_none());
+    assert!(r.smallest_need_bytes > (8 << 20) as f64);
+}
