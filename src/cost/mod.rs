@@ -14,6 +14,7 @@ pub mod bytes;
 pub mod machine;
 pub mod memory;
 pub mod peak;
+pub mod time;
 
 use serde::Serialize;
 

@@ -1,0 +1,318 @@
+//! Measuring this node for a machine profile (`sliceplan calibrate`).
+//!
+//! # What it measures
+//!
+//! For each thread count `t` in 1, 2, 4, ... below the cores, and the
+//! cores, all with the executor's own kernel ([`crate::exec::pairwise::contract`],
+//! faer's multiply) in a thread pool of `t` threads:
+//!
+//! * **rate** per dtype: multiply-adds per second of a large product
+//!   (512 x 512 by 512 x 512, larger for many threads), the mean time of
+//!   the operands stored in matrix layout and stored permuted (so the
+//!   kernel copies them first);
+//! * **efficiency** per dtype: the share of that rate one product of
+//!   2^x multiply-adds reaches, x = 0, 3, ..., 24, each a batch of nearly
+//!   cubic products (a batch index shared by both operands) of 2^22
+//!   multiply-adds in all, permuted and not;
+//! * **bandwidth**: bytes of operands and result per second for gate-like
+//!   contractions whose time is memory traffic (a 2^21-element operand
+//!   times a 2 x 2 matrix, a 2^20-element one times 4 x 4), permuted and not.
+//!
+//! Once: the **overhead** of one contraction (2 x 2 by 2 x 2 matrices),
+//! and from the operating system the cores and memory this process may use
+//! ([`node`]). Each figure is the fastest of a few repetitions of at least
+//! [`Settings::min_seconds`].
+//!
+//! # Complexity
+//!
+//! About 80 timings per thread count, each around 0.1 s: about 8 s per
+//! thread count, so a minute for a 64-core node (7 thread counts).
+//!
+//! # Example
+//!
+//! ```no_run
+//! use sliceplan::calibrate::{calibrate, Settings};
+//! let c = calibrate(&Settings::full("this-node"), &|_| {}, &Default::default()).unwrap();
+//! println!("{}", c.profile_text);
+//! ```
+
+pub mod kernel;
+pub mod node;
+mod profile;
+
+use std::sync::atomic::{AtomicBool, Ordering};
+
+use num_complex::{Complex32, Complex64};
+
+use crate::cost::machine::{Efficiency, Machine, Rates, ThreadFigures};
+use crate::error::{Error, Result};
+use crate::exec::scalar::Scalar;
+use crate::network::Dtype;
+use kernel::{time_shape, Shape};
+pub use node::{read_node, NodeFacts};
+
+/// log2 sizes of one product at which the efficiency is measured.
+pub const EFFICIENCY_POINTS: [u32; 9] = [0, 3, 6, 9, 12, 15, 18, 21, 24];
+/// log2 of the multiply-adds of each efficiency batch.
+const BATCH_OPS_LOG2: u32 = 22;
+
+/// How to calibrate.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Settings {
+    /// The profile's name.
+    pub name: String,
+    /// Measure at most this many threads (default: the cores).
+    pub max_threads: Option<u64>,
+    /// Each timing lasts at least this long, seconds.
+    pub min_seconds: f64,
+    /// Timings per figure; the fastest counts.
+    pub reps: usize,
+    /// Edge of the large square product (grown with the thread count).
+    pub large_edge: usize,
+}
+
+impl Settings {
+    /// The full measurement (about 8 s per thread count).
+    pub fn full(name: &str) -> Settings {
+        Settings {
+            name: name.to_string(),
+            max_threads: None,
+            min_seconds: 0.02,
+            reps: 3,
+            large_edge: 512,
+        }
+    }
+
+    /// A fast, rough measurement for tests (well under a second).
+    pub fn quick(name: &str) -> Settings {
+        Settings {
+            name: name.to_string(),
+            max_threads: Some(1),
+            min_seconds: 0.0,
+            reps: 1,
+            large_edge: 64,
+        }
+    }
+}
+
+/// Progress of a calibration.
+#[derive(Debug, Clone, Copy)]
+pub struct Progress<'a> {
+    /// Timings done.
+    pub done: usize,
+    /// Timings in all.
+    pub total: usize,
+    /// What is being measured.
+    pub what: &'a str,
+}
+
+/// A finished calibration.
+#[derive(Debug, Clone)]
+pub struct Calibrated {
+    /// The profile as TOML, with comments.
+    pub profile_text: String,
+    /// The same, parsed.
+    pub machine: Machine,
+    /// What the operating system said.
+    pub node: NodeFacts,
+}
+
+/// The thread counts measured for `cores`: 1, 2, 4, ... below it, and it.
+pub fn thread_counts(cores: u64) -> Vec<u64> {
+    let mut t: Vec<u64> = std::iter::successors(Some(1u64), |x| x.checked_mul(2))
+        .take_while(|&x| x < cores)
+        .collect();
+    t.push(cores.max(1));
+    t
+}
+
+/// Measures this node and returns its profile. `stop` ends the work early
+/// with an error.
+pub fn calibrate(
+    settings: &Settings,
+    progress: &(dyn Fn(Progress<'_>) + Sync),
+    stop: &AtomicBool,
+) -> Result<Calibrated> {
+    let started = std::time::Instant::now();
+    let node = read_node();
+    let cores = settings.max_threads.map_or(node.cores, |m| m.min(node.cores)).max(1);
+    let counts = thread_counts(cores);
+    let per_count = Dtype::ALL.len() * 2 * (1 + EFFICIENCY_POINTS.len()) + 4;
+    let total = 1 + counts.len() * per_count;
+    let mut m = Timer {
+        settings,
+        progress,
+        stop,
+        done: 0,
+        total,
+    };
+    let overhead = m.time::<f64>("overhead of one contraction", &Shape::batched(1, 2, 2, 2, false), 1)?;
+    let mut threads = Vec::with_capacity(counts.len());
+    for &t in &counts {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(t as usize)
+            .build()
+            .map_err(|e| Error::Cannot(format!("cannot start {t} threads: {e}")))?;
+        threads.push(pool.install(|| m.thread_figures(t))?);
+    }
+    let node_figures = threads.last().expect("at least one thread count").clone();
+    let machine = Machine {
+        name: settings.name.clone(),
+        description: String::new(),
+        memory_bytes: node.memory_bytes.unwrap_or(1 << 30),
+        usable_fraction: profile::USABLE_FRACTION,
+        slices_per_node: 1,
+        nodes: 1,
+        cores,
+        bandwidth: node_figures.bandwidth,
+        rate: node_figures.rate,
+        limits: Default::default(),
+        overhead_seconds: overhead,
+        threads,
+        calibration: None,
+        version: crate::cost::machine::MACHINE_VERSION,
+    };
+    let profile_text = profile::render(&machine, &node, settings, started.elapsed().as_secs_f64());
+    let machine = Machine::parse(&profile_text, "the calibrated profile")?;
+    Ok(Calibrated {
+        profile_text,
+        machine,
+        node,
+    })
+}
+
+/// Runs the timings and counts them for the progress report.
+struct Timer<'a> {
+    settings: &'a Settings,
+    progress: &'a (dyn Fn(Progress<'_>) + Sync),
+    stop: &'a AtomicBool,
+    done: usize,
+    total: usize,
+}
+
+impl Timer<'_> {
+    /// Seconds per call of `shape` in `T`.
+    fn time<T: Scalar>(&mut self, what: &str, shape: &Shape, threads: u64) -> Result<f64> {
+        if self.stop.load(Ordering::SeqCst) {
+            return Err(Error::Cannot("calibration stopped before it finished; nothing written".into()));
+        }
+        (self.progress)(Progress {
+            done: self.done,
+            total: self.total,
+            what,
+        });
+        let s = self.settings;
+        let t = time_shape::<T>(shape, threads as usize, s.reps, s.min_seconds);
+        self.done += 1;
+        Ok(t)
+    }
+
+    /// Mean seconds of a shape stored in matrix layout and permuted.
+    fn both<T: Scalar>(&mut self, what: &str, batch: usize, m: usize, k: usize, n: usize, threads: u64) -> Result<f64> {
+        let a = self.time::<T>(what, &Shape::batched(batch, m, k, n, false), threads)?;
+        let b = self.time::<T>(what, &Shape::batched(batch, m, k, n, true), threads)?;
+        Ok((a + b) / 2.0)
+    }
+
+    /// Rate and efficiency curve of one dtype.
+    fn dtype<T: Scalar>(&mut self, threads: u64) -> Result<(f64, Vec<f64>)> {
+        let edge = self.large_edge(threads);
+        let what = format!("{} rate, {threads} thread(s)", T::DTYPE);
+        let large = self.both::<T>(&what, 1, edge, edge, edge, threads)?;
+        let rate = (edge as f64).powi(3) / large;
+        let mut shares = Vec::with_capacity(EFFICIENCY_POINTS.len());
+        for &x in &EFFICIENCY_POINTS {
+            let (m, k, n) = cubic(x);
+            let batch = 1usize << BATCH_OPS_LOG2.saturating_sub(x).min(self.batch_cap());
+            let what = format!("{} products of 2^{x} multiply-adds, {threads} thread(s)", T::DTYPE);
+            let t = self.both::<T>(&what, batch, m, k, n, threads)?;
+            let ops = (batch as f64) * ((m * k * n) as f64);
+            shares.push((ops / t / rate).clamp(1e-6, 4.0));
+        }
+        Ok((rate, shares))
+    }
+
+    /// Largest log2 batch: small in quick runs.
+    fn batch_cap(&self) -> u32 {
+        if self.settings.large_edge < 512 {
+            6
+        } else {
+            BATCH_OPS_LOG2
+        }
+    }
+
+    /// The edge of the large product for `threads` threads: 512 x the cube
+    /// root of the threads, so each thread has about as much work.
+    fn large_edge(&self, threads: u64) -> usize {
+        let e = self.settings.large_edge as f64 * (threads as f64).cbrt();
+        ((e / 64.0).ceil() as usize * 64).max(64)
+    }
+
+    /// Everything measured for one thread count.
+    fn thread_figures(&mut self, threads: u64) -> Result<ThreadFigures> {
+        let (f32r, f32e) = self.dtype::<f32>(threads)?;
+        let (f64r, f64e) = self.dtype::<f64>(threads)?;
+        let (c64r, c64e) = self.dtype::<Complex32>(threads)?;
+        let (c128r, c128e) = self.dtype::<Complex64>(threads)?;
+        let what = format!("bandwidth, {threads} thread(s)");
+        let shift = if self.settings.large_edge < 512 { 8 } else { 0 };
+        let (mut bytes, mut seconds) = (0.0, 0.0);
+        for (m, k) in [(1usize << (21 - shift), 2usize), (1 << (20 - shift), 4)] {
+            let shape = Shape::batched(1, m, k, k, false);
+            let [a, b, v] = shape.elements();
+            bytes += 2.0 * (a + b + v) * 8.0;
+            seconds += self.both::<f64>(&what, 1, m, k, k, threads)? * 2.0;
+        }
+        Ok(ThreadFigures {
+            threads,
+            bandwidth: bytes / seconds,
+            rate: Rates {
+                f32: f32r,
+                f64: f64r,
+                c64: c64r,
+                c128: c128r,
+            },
+            efficiency: Some(Efficiency {
+                ops_log2: EFFICIENCY_POINTS.iter().map(|&x| x as f64).collect(),
+                f32: f32e,
+                f64: f64e,
+                c64: c64e,
+                c128: c128e,
+            }),
+        })
+    }
+}
+
+/// Nearly cubic m x k x n with m k n = 2^x (m >= k >= n).
+fn cubic(x: u32) -> (usize, usize, usize) {
+    let n = x / 3;
+    let k = (x - n) / 2;
+    let m = x - n - k;
+    (1 << m, 1 << k, 1 << n)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn thread_counts_and_cubes() {
+        assert_eq!(thread_counts(1), vec![1]);
+        assert_eq!(thread_counts(6), vec![1, 2, 4, 6]);
+        assert_eq!(thread_counts(8), vec![1, 2, 4, 8]);
+        // 2^7 = 8 x 4 x 4; 2^0 = 1 x 1 x 1 (by hand).
+        assert_eq!(cubic(7), (8, 4, 4));
+        assert_eq!(cubic(0), (1, 1, 1));
+    }
+
+    #[test]
+    fn a_quick_calibration_writes_a_readable_profile() {
+        let c = calibrate(&Settings::quick("quick-test"), &|_| {}, &AtomicBool::new(false)).unwrap();
+        let m = &c.machine;
+        assert_eq!((m.name.as_str(), m.version, m.threads.len()), ("quick-test", 2, 1));
+        assert!(m.rate.f64 > 0.0 && m.bandwidth > 0.0 && m.overhead_seconds > 0.0);
+        let cal = m.calibration.as_ref().expect("calibrated profiles say so");
+        assert_eq!(cal.host, c.node.host);
+        assert!(cal.method.contains_key("rate") && cal.method.contains_key("bandwidth"));
+    }
+}
