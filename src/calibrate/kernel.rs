@@ -57,6 +57,40 @@ impl Shape {
         Shape { a, b, keep }
     }
 
+    /// A batched product over dimension-2 indices, as in circuits, spin
+    /// lattices and formulas: `batch` indices shared and kept, `m` only in
+    /// `a`, `k` summed, `n` only in `b` (counts of indices). In matrix
+    /// layout `a` is `[batch, m, k]` and `b` `[batch, k, n]`; `permuted`
+    /// stores `a` reversed and `b` rotated by half, so the kernel copies
+    /// both through many small axes first.
+    pub fn binary(batch: usize, m: usize, k: usize, n: usize, permuted: bool) -> Shape {
+        let ids = |from: usize, count: usize| (from..from + count).map(|e| (e, 2usize));
+        let (b0, m0, k0, n0) = (0, batch, batch + m, batch + m + k);
+        let mut a: Legs = ids(b0, batch).chain(ids(m0, m)).chain(ids(k0, k)).collect();
+        let mut b: Legs = ids(b0, batch).chain(ids(k0, k)).chain(ids(n0, n)).collect();
+        if permuted {
+            a.reverse();
+            let half = b.len() / 2;
+            b.rotate_left(half);
+        }
+        let keep = (b0..b0 + batch)
+            .chain(m0..m0 + m)
+            .chain(n0..n0 + n)
+            .collect();
+        Shape { a, b, keep }
+    }
+
+    /// The small contraction whose time is the fixed overhead of one
+    /// contraction: `a[i,j,k,l] b[l,m,j,n] -> v[i,k,m,n]`, all of dimension
+    /// 2, both operands needing a permuting copy (64 multiply-adds).
+    pub fn small() -> Shape {
+        Shape {
+            a: vec![(0, 2), (1, 2), (2, 2), (3, 2)],
+            b: vec![(3, 2), (4, 2), (1, 2), (5, 2)],
+            keep: vec![0, 2, 4, 5],
+        }
+    }
+
     /// Multiply-adds of the contraction: the product of the dimensions of
     /// every index of either operand.
     pub fn ops(&self) -> f64 {

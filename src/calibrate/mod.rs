@@ -12,13 +12,18 @@
 //!   kernel copies them first);
 //! * **efficiency** per dtype: the share of that rate one product of
 //!   2^x multiply-adds reaches, x = 0, 3, ..., 24, each a batch of nearly
-//!   cubic products (a batch index shared by both operands) of 2^22
-//!   multiply-adds in all, permuted and not;
+//!   cubic products over dimension-2 indices (as in circuits, lattices and
+//!   formulas; batch indices shared by both operands) of 2^22
+//!   multiply-adds in all, stored in matrix order and permuted (so the
+//!   copies through many small axes count);
 //! * **bandwidth**: bytes of operands and result per second for gate-like
-//!   contractions whose time is memory traffic (a 2^21-element operand
-//!   times a 2 x 2 matrix, a 2^20-element one times 4 x 4), permuted and not.
+//!   contractions whose time is memory traffic (a 2^23-element operand of
+//!   23 dimension-2 indices times a 2 x 2 tensor on one of them, a
+//!   2^22-element one times 4 x 4 on two), in order and permuted.
 //!
-//! Once: the **overhead** of one contraction (2 x 2 by 2 x 2 matrices),
+//! Once: the **overhead** of one contraction ([`Shape::small`]: two
+//! 4-index tensors of dimension-2 indices sharing two, both permuted, as
+//! the site tensors of a lattice or the gates of a circuit),
 //! and from the operating system the cores and memory this process may use
 //! ([`node`]). Each figure is the fastest of a few repetitions of at least
 //! [`Settings::min_seconds`].
@@ -146,7 +151,7 @@ pub fn calibrate(
         done: 0,
         total,
     };
-    let overhead = m.time::<f64>("overhead of one contraction", &Shape::batched(1, 2, 2, 2, false), 1)?;
+    let overhead = m.time::<f64>("overhead of one contraction", &Shape::small(), 1)?;
     let mut threads = Vec::with_capacity(counts.len());
     for &t in &counts {
         let pool = rayon::ThreadPoolBuilder::new()
@@ -222,11 +227,14 @@ impl Timer<'_> {
         let rate = (edge as f64).powi(3) / large;
         let mut shares = Vec::with_capacity(EFFICIENCY_POINTS.len());
         for &x in &EFFICIENCY_POINTS {
-            let (m, k, n) = cubic(x);
-            let batch = 1usize << BATCH_OPS_LOG2.saturating_sub(x).min(self.batch_cap());
+            let (m, k, n) = cubic_bits(x);
+            let batch = BATCH_OPS_LOG2.saturating_sub(x).min(self.batch_cap()) as usize;
             let what = format!("{} products of 2^{x} multiply-adds, {threads} thread(s)", T::DTYPE);
-            let t = self.both::<T>(&what, batch, m, k, n, threads)?;
-            let ops = (batch as f64) * ((m * k * n) as f64);
+            let mut t = 0.0;
+            for permuted in [false, true] {
+                t += self.time::<T>(&what, &Shape::binary(batch, m, k, n, permuted), threads)? / 2.0;
+            }
+            let ops = ((batch + m + k + n) as f64).exp2();
             shares.push((ops / t / rate).clamp(1e-6, 4.0));
         }
         Ok((rate, shares))
@@ -257,11 +265,15 @@ impl Timer<'_> {
         let what = format!("bandwidth, {threads} thread(s)");
         let shift = if self.settings.large_edge < 512 { 8 } else { 0 };
         let (mut bytes, mut seconds) = (0.0, 0.0);
-        for (m, k) in [(1usize << (21 - shift), 2usize), (1 << (20 - shift), 4)] {
-            let shape = Shape::batched(1, m, k, k, false);
-            let [a, b, v] = shape.elements();
-            bytes += 2.0 * (a + b + v) * 8.0;
-            seconds += self.both::<f64>(&what, 1, m, k, k, threads)? * 2.0;
+        // Gate-like: a large operand of many dimension-2 indices times a
+        // small one on 1 or 2 of them, stored in order and permuted.
+        for (m, k) in [(23 - shift, 1usize), (22 - shift, 2)] {
+            for permuted in [false, true] {
+                let shape = Shape::binary(0, m, k, k, permuted);
+                let [a, b, v] = shape.elements();
+                bytes += (a + b + v) * 8.0;
+                seconds += self.time::<f64>(&what, &shape, threads)?;
+            }
         }
         Ok(ThreadFigures {
             threads,
@@ -283,12 +295,13 @@ impl Timer<'_> {
     }
 }
 
-/// Nearly cubic m x k x n with m k n = 2^x (m >= k >= n).
-fn cubic(x: u32) -> (usize, usize, usize) {
+/// Index counts of a nearly cubic product of 2^x multiply-adds over
+/// dimension-2 indices: (m, k, n) with m + k + n = x, m >= k >= n.
+fn cubic_bits(x: u32) -> (usize, usize, usize) {
     let n = x / 3;
     let k = (x - n) / 2;
     let m = x - n - k;
-    (1 << m, 1 << k, 1 << n)
+    (m as usize, k as usize, n as usize)
 }
 
 #[cfg(test)]
@@ -300,9 +313,9 @@ mod tests {
         assert_eq!(thread_counts(1), vec![1]);
         assert_eq!(thread_counts(6), vec![1, 2, 4, 6]);
         assert_eq!(thread_counts(8), vec![1, 2, 4, 8]);
-        // 2^7 = 8 x 4 x 4; 2^0 = 1 x 1 x 1 (by hand).
-        assert_eq!(cubic(7), (8, 4, 4));
-        assert_eq!(cubic(0), (1, 1, 1));
+        // 2^7 = 8 x 4 x 4: 3 + 2 + 2 indices; 2^0: none (by hand).
+        assert_eq!(cubic_bits(7), (3, 2, 2));
+        assert_eq!(cubic_bits(0), (0, 0, 0));
     }
 
     #[test]

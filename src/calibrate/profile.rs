@@ -22,10 +22,10 @@ fn methods(node: &NodeFacts, settings: &Settings) -> Vec<(&'static str, String)>
             settings.large_edge, settings.reps, settings.min_seconds
         )),
         ("efficiency", format!(
-            "the same kernel on batches of 2^{BATCH_OPS_LOG2} multiply-adds of nearly cubic products of 2^x each (a batch index shared by both operands), permuted and not, over the rate"
+            "the same kernel on batches of 2^{BATCH_OPS_LOG2} multiply-adds of nearly cubic products of 2^x each over dimension-2 indices (batch indices shared by both operands), stored in matrix order and permuted, over the rate"
         )),
-        ("bandwidth", "bytes of operands and result per second of the same kernel on memory-bound gate-like f64 contractions (2^21 x 2 by 2 x 2, 2^20 x 4 by 4 x 4), permuted and not".to_string()),
-        ("overhead_seconds", "seconds per call of the same kernel on 2 x 2 by 2 x 2 f64 matrices".to_string()),
+        ("bandwidth", "bytes of operands and result per second of the same kernel on memory-bound gate-like f64 contractions (2^23 elements over dimension-2 indices by 2 x 2 on one of them, 2^22 by 4 x 4 on two), in order and permuted".to_string()),
+        ("overhead_seconds", "seconds per call of the same kernel on two 4-index f64 tensors of dimension-2 indices sharing two, both stored permuted (64 multiply-adds)".to_string()),
     ]
 }
 
