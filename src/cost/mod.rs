@@ -15,6 +15,7 @@ pub mod machine;
 pub mod memory;
 pub mod peak;
 pub mod time;
+pub mod trace;
 
 use serde::Serialize;
 
