@@ -17,15 +17,18 @@
 //!   multiply-adds in all, stored in matrix order and permuted (so the
 //!   copies through many small axes count);
 //! * **bandwidth**: bytes of operands and result per second for gate-like
-//!   contractions whose time is memory traffic (a 2^23-element operand of
-//!   23 dimension-2 indices times a 2 x 2 tensor on one of them, a
-//!   2^22-element one times 4 x 4 on two), in order and permuted.
+//!   contractions whose time is memory traffic (an operand of 2^m elements
+//!   over dimension-2 indices times a 2 x 2 tensor on one of them, stored
+//!   permuted, as the large operands of plans mostly are): the figure at
+//!   m = 22, and its share at m = 10, 14, 18, 25, at most 1 (very large
+//!   tensors lose more to scattered copies; the speed-up caches give a
+//!   repeated timing is not taken, as a plan's sequence of different
+//!   tensors does not get it).
 //!
-//! Once: the **overhead** of one contraction ([`Shape::small`]: two
-//! 4-index tensors of dimension-2 indices sharing two, both permuted, as
-//! the site tensors of a lattice or the gates of a circuit),
+//! Once: the **overhead** of one contraction (the mean of the small
+//! contractions of [`Shape::small`]),
 //! and from the operating system the cores and memory this process may use
-//! ([`node`]). Each figure is the fastest of a few repetitions of at least
+//! ([`node`]). Each figure is the median of a few repetitions of at least
 //! [`Settings::min_seconds`].
 //!
 //! # Complexity
@@ -49,7 +52,7 @@ use std::sync::atomic::{AtomicBool, Ordering};
 
 use num_complex::{Complex32, Complex64};
 
-use crate::cost::machine::{Efficiency, Machine, Rates, ThreadFigures};
+use crate::cost::machine::{Efficiency, Machine, MemoryShare, Rates, ThreadFigures};
 use crate::error::{Error, Result};
 use crate::exec::scalar::Scalar;
 use crate::network::Dtype;
@@ -58,6 +61,10 @@ pub use node::{read_node, NodeFacts};
 
 /// log2 sizes of one product at which the efficiency is measured.
 pub const EFFICIENCY_POINTS: [u32; 9] = [0, 3, 6, 9, 12, 15, 18, 21, 24];
+/// Indices of the large operand of the bandwidth timings (2^m elements).
+pub const MEMORY_POINTS: [u32; 5] = [10, 14, 18, 22, 25];
+/// The timing whose bandwidth is the profile's figure (share 1).
+const MEMORY_REFERENCE: usize = 3;
 /// log2 of the multiply-adds of each efficiency batch.
 const BATCH_OPS_LOG2: u32 = 22;
 
@@ -140,10 +147,13 @@ pub fn calibrate(
 ) -> Result<Calibrated> {
     let started = std::time::Instant::now();
     let node = read_node();
-    let cores = settings.max_threads.map_or(node.cores, |m| m.min(node.cores)).max(1);
+    let cores = settings
+        .max_threads
+        .map_or(node.cores, |m| m.min(node.cores))
+        .max(1);
     let counts = thread_counts(cores);
-    let per_count = Dtype::ALL.len() * 2 * (1 + EFFICIENCY_POINTS.len()) + 4;
-    let total = 1 + counts.len() * per_count;
+    let per_count = Dtype::ALL.len() * 2 * (1 + EFFICIENCY_POINTS.len()) + MEMORY_POINTS.len();
+    let total = 3 + counts.len() * per_count;
     let mut m = Timer {
         settings,
         progress,
@@ -151,7 +161,11 @@ pub fn calibrate(
         done: 0,
         total,
     };
-    let overhead = m.time::<f64>("overhead of one contraction", &Shape::small(), 1)?;
+    let small = Shape::small();
+    let mut overhead = 0.0;
+    for shape in &small {
+        overhead += m.time::<f64>("overhead of one contraction", shape, 1)? / small.len() as f64;
+    }
     let mut threads = Vec::with_capacity(counts.len());
     for &t in &counts {
         let pool = rayon::ThreadPoolBuilder::new()
@@ -198,8 +212,22 @@ struct Timer<'a> {
 impl Timer<'_> {
     /// Seconds per call of `shape` in `T`.
     fn time<T: Scalar>(&mut self, what: &str, shape: &Shape, threads: u64) -> Result<f64> {
+        self.time_reps::<T>(what, shape, threads, self.settings.reps)
+    }
+
+    /// [`Timer::time`] with its own number of repetitions (more for the
+    /// noisier memory-bound timings).
+    fn time_reps<T: Scalar>(
+        &mut self,
+        what: &str,
+        shape: &Shape,
+        threads: u64,
+        reps: usize,
+    ) -> Result<f64> {
         if self.stop.load(Ordering::SeqCst) {
-            return Err(Error::Cannot("calibration stopped before it finished; nothing written".into()));
+            return Err(Error::Cannot(
+                "calibration stopped before it finished; nothing written".into(),
+            ));
         }
         (self.progress)(Progress {
             done: self.done,
@@ -207,13 +235,21 @@ impl Timer<'_> {
             what,
         });
         let s = self.settings;
-        let t = time_shape::<T>(shape, threads as usize, s.reps, s.min_seconds);
+        let t = time_shape::<T>(shape, threads as usize, reps, s.min_seconds);
         self.done += 1;
         Ok(t)
     }
 
     /// Mean seconds of a shape stored in matrix layout and permuted.
-    fn both<T: Scalar>(&mut self, what: &str, batch: usize, m: usize, k: usize, n: usize, threads: u64) -> Result<f64> {
+    fn both<T: Scalar>(
+        &mut self,
+        what: &str,
+        batch: usize,
+        m: usize,
+        k: usize,
+        n: usize,
+        threads: u64,
+    ) -> Result<f64> {
         let a = self.time::<T>(what, &Shape::batched(batch, m, k, n, false), threads)?;
         let b = self.time::<T>(what, &Shape::batched(batch, m, k, n, true), threads)?;
         Ok((a + b) / 2.0)
@@ -229,10 +265,14 @@ impl Timer<'_> {
         for &x in &EFFICIENCY_POINTS {
             let (m, k, n) = cubic_bits(x);
             let batch = BATCH_OPS_LOG2.saturating_sub(x).min(self.batch_cap()) as usize;
-            let what = format!("{} products of 2^{x} multiply-adds, {threads} thread(s)", T::DTYPE);
+            let what = format!(
+                "{} products of 2^{x} multiply-adds, {threads} thread(s)",
+                T::DTYPE
+            );
             let mut t = 0.0;
             for permuted in [false, true] {
-                t += self.time::<T>(&what, &Shape::binary(batch, m, k, n, permuted), threads)? / 2.0;
+                t +=
+                    self.time::<T>(&what, &Shape::binary(batch, m, k, n, permuted), threads)? / 2.0;
             }
             let ops = ((batch + m + k + n) as f64).exp2();
             shares.push((ops / t / rate).clamp(1e-6, 4.0));
@@ -264,20 +304,31 @@ impl Timer<'_> {
         let (c128r, c128e) = self.dtype::<Complex64>(threads)?;
         let what = format!("bandwidth, {threads} thread(s)");
         let shift = if self.settings.large_edge < 512 { 8 } else { 0 };
-        let (mut bytes, mut seconds) = (0.0, 0.0);
-        // Gate-like: a large operand of many dimension-2 indices times a
-        // small one on 1 or 2 of them, stored in order and permuted.
-        for (m, k) in [(23 - shift, 1usize), (22 - shift, 2)] {
-            for permuted in [false, true] {
-                let shape = Shape::binary(0, m, k, k, permuted);
-                let [a, b, v] = shape.elements();
-                bytes += (a + b + v) * 8.0;
-                seconds += self.time::<f64>(&what, &shape, threads)?;
-            }
+        // Gate-like: an operand of m dimension-2 indices times a 2 x 2
+        // tensor on one of them, stored permuted (the large operands of
+        // plans mostly need a copy); the reference size is the last but one.
+        let mut points = Vec::with_capacity(MEMORY_POINTS.len());
+        for &m in &MEMORY_POINTS {
+            let shape = Shape::binary(0, (m as usize).saturating_sub(shift), 1, 1, true);
+            let [a, b, v] = shape.elements();
+            let t = self.time_reps::<f64>(&what, &shape, threads, 2 * self.settings.reps - 1)?;
+            points.push(((a + b + v).log2(), (a + b + v) * 8.0 / t));
         }
+        let bandwidth = points[MEMORY_REFERENCE].1;
         Ok(ThreadFigures {
             threads,
-            bandwidth: bytes / seconds,
+            bandwidth,
+            memory: Some(MemoryShare {
+                elements_log2: points
+                    .iter()
+                    .map(|p| (p.0 * 100.0).round() / 100.0)
+                    .collect(),
+                // At most 1: a timing loop repeats one contraction, so its
+                // data stays in cache as a plan's sequence of different
+                // tensors does not; only the slowdown of very large
+                // tensors is taken from the small sizes' timings.
+                share: points.iter().map(|p| (p.1 / bandwidth).min(1.0)).collect(),
+            }),
             rate: Rates {
                 f32: f32r,
                 f64: f64r,
@@ -320,9 +371,17 @@ mod tests {
 
     #[test]
     fn a_quick_calibration_writes_a_readable_profile() {
-        let c = calibrate(&Settings::quick("quick-test"), &|_| {}, &AtomicBool::new(false)).unwrap();
+        let c = calibrate(
+            &Settings::quick("quick-test"),
+            &|_| {},
+            &AtomicBool::new(false),
+        )
+        .unwrap();
         let m = &c.machine;
-        assert_eq!((m.name.as_str(), m.version, m.threads.len()), ("quick-test", 2, 1));
+        assert_eq!(
+            (m.name.as_str(), m.version, m.threads.len()),
+            ("quick-test", 2, 1)
+        );
         assert!(m.rate.f64 > 0.0 && m.bandwidth > 0.0 && m.overhead_seconds > 0.0);
         let cal = m.calibration.as_ref().expect("calibrated profiles say so");
         assert_eq!(cal.host, c.node.host);

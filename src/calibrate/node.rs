@@ -35,7 +35,9 @@ pub fn read_node() -> NodeFacts {
         .map(|t| t.lines().filter(|l| l.starts_with("processor")).count())
         .unwrap_or(0);
     let cores_source = if online > 0 && online as u64 != cores {
-        format!("CPUs this process may use (affinity mask and cgroup CPU quota); the node has {online}")
+        format!(
+            "CPUs this process may use (affinity mask and cgroup CPU quota); the node has {online}"
+        )
     } else {
         "CPUs this process may use (affinity mask and cgroup CPU quota)".to_string()
     };
@@ -150,7 +152,10 @@ mod tests {
     #[test]
     fn reads_meminfo_and_this_node() {
         // The layout of /proc/meminfo (proc(5)): "Key:   value kB".
-        assert_eq!(meminfo_field("MemTotal:  1024 kB\n", "MemTotal:"), Some(1 << 20));
+        assert_eq!(
+            meminfo_field("MemTotal:  1024 kB\n", "MemTotal:"),
+            Some(1 << 20)
+        );
         let n = read_node();
         assert!(n.cores >= 1 && n.date.len() == 10, "{n:?}");
     }

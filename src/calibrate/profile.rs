@@ -18,14 +18,14 @@ fn methods(node: &NodeFacts, settings: &Settings) -> Vec<(&'static str, String)>
         ("cores", node.cores_source.clone()),
         ("memory", node.memory_source.clone()),
         ("rate", format!(
-            "the executor's pairwise kernel (faer multiply) on a square product of edge {} x cube root of the threads, mean of operands in matrix layout and permuted (copied first); fastest of {} timings of at least {} s",
+            "the executor's pairwise kernel (faer multiply) on a square product of edge {} x cube root of the threads, mean of operands in matrix layout and permuted (copied first); median of {} timings of at least {} s",
             settings.large_edge, settings.reps, settings.min_seconds
         )),
         ("efficiency", format!(
             "the same kernel on batches of 2^{BATCH_OPS_LOG2} multiply-adds of nearly cubic products of 2^x each over dimension-2 indices (batch indices shared by both operands), stored in matrix order and permuted, over the rate"
         )),
-        ("bandwidth", "bytes of operands and result per second of the same kernel on memory-bound gate-like f64 contractions (2^23 elements over dimension-2 indices by 2 x 2 on one of them, 2^22 by 4 x 4 on two), in order and permuted".to_string()),
-        ("overhead_seconds", "seconds per call of the same kernel on two 4-index f64 tensors of dimension-2 indices sharing two, both stored permuted (64 multiply-adds)".to_string()),
+        ("bandwidth", "bytes of operands and result per second of the same kernel on a memory-bound gate-like f64 contraction (2^22 elements over dimension-2 indices by 2 x 2 on one of them, stored permuted); [threads.memory] the same at 2^10, 2^14, 2^18 and 2^25 elements over it".to_string()),
+        ("overhead_seconds", "mean seconds per call of the same kernel on three small f64 contractions over dimension-2 indices: 2 x 2 by 2 x 2 in matrix layout, a batch of two stored permuted, and two 4-index tensors sharing two, both copied first".to_string()),
     ]
 }
 
@@ -45,8 +45,19 @@ fn quote(s: &str) -> String {
     out
 }
 
+/// Numbers with four significant digits (small shares in scientific
+/// notation, so none rounds to zero).
 fn list(v: &[f64]) -> String {
-    let items: Vec<String> = v.iter().map(|x| format!("{x:.4}")).collect();
+    let items: Vec<String> = v
+        .iter()
+        .map(|&x| {
+            if x == 0.0 || x.abs() >= 0.01 {
+                format!("{x:.4}")
+            } else {
+                format!("{x:.3e}")
+            }
+        })
+        .collect();
     format!("[{}]", items.join(", "))
 }
 
@@ -89,26 +100,74 @@ pub fn render(machine: &Machine, node: &NodeFacts, settings: &Settings, seconds:
             node.date
         ))
     );
-    let _ = writeln!(s, "memory = \"{memory}\"  # bytes this process may use ({})", node.memory_source);
-    let _ = writeln!(s, "usable_fraction = {USABLE_FRACTION}      # share of the memory slices may use");
+    let _ = writeln!(
+        s,
+        "memory = \"{memory}\"  # bytes this process may use ({})",
+        node.memory_source
+    );
+    let _ = writeln!(
+        s,
+        "usable_fraction = {USABLE_FRACTION}      # share of the memory slices may use"
+    );
     let _ = writeln!(s, "slices_per_node = 1         # slices running at once per node, each with cores / slices_per_node threads");
-    let _ = writeln!(s, "nodes = 1                   # nodes you may use at once: set it for your allocation");
-    let _ = writeln!(s, "cores = {}                   # {}", machine.cores, node.cores_source);
-    let _ = writeln!(s, "bandwidth = \"{}\"  # bytes per second with all cores (memory-bound contractions)", per_second(machine.bandwidth));
-    let _ = writeln!(s, "overhead_seconds = {:.3e}  # fixed cost of one pairwise contraction", machine.overhead_seconds);
+    let _ = writeln!(
+        s,
+        "nodes = 1                   # nodes you may use at once: set it for your allocation"
+    );
+    let _ = writeln!(
+        s,
+        "cores = {}                   # {}",
+        machine.cores, node.cores_source
+    );
+    let _ = writeln!(
+        s,
+        "bandwidth = \"{}\"  # bytes per second with all cores (memory-bound contractions)",
+        per_second(machine.bandwidth)
+    );
+    let _ = writeln!(
+        s,
+        "overhead_seconds = {:.3e}  # fixed cost of one pairwise contraction",
+        machine.overhead_seconds
+    );
     let r = &machine.rate;
-    let _ = writeln!(s, "\n[rate]                      # multiply-adds per second of large products, all cores");
-    let _ = writeln!(s, "f32 = {:.4e}\nf64 = {:.4e}\nc64 = {:.4e}\nc128 = {:.4e}", r.f32, r.f64, r.c64, r.c128);
+    let _ = writeln!(
+        s,
+        "\n[rate]                      # multiply-adds per second of large products, all cores"
+    );
+    let _ = writeln!(
+        s,
+        "f32 = {:.4e}\nf64 = {:.4e}\nc64 = {:.4e}\nc128 = {:.4e}",
+        r.f32, r.f64, r.c64, r.c128
+    );
     for t in &machine.threads {
-        let _ = writeln!(s, "\n[[threads]]                 # figures for a slice running with this many threads");
+        let _ = writeln!(
+            s,
+            "\n[[threads]]                 # figures for a slice running with this many threads"
+        );
         let _ = writeln!(s, "threads = {}", t.threads);
         let _ = writeln!(s, "bandwidth = \"{}\"", per_second(t.bandwidth));
         let _ = writeln!(s, "[threads.rate]");
-        let _ = writeln!(s, "f32 = {:.4e}\nf64 = {:.4e}\nc64 = {:.4e}\nc128 = {:.4e}", t.rate.f32, t.rate.f64, t.rate.c64, t.rate.c128);
+        let _ = writeln!(
+            s,
+            "f32 = {:.4e}\nf64 = {:.4e}\nc64 = {:.4e}\nc128 = {:.4e}",
+            t.rate.f32, t.rate.f64, t.rate.c64, t.rate.c128
+        );
         if let Some(e) = &t.efficiency {
             let _ = writeln!(s, "[threads.efficiency]        # share of the rate one product of 2^ops_log2 multiply-adds reaches");
             let _ = writeln!(s, "ops_log2 = {}", list(&e.ops_log2));
-            let _ = writeln!(s, "f32 = {}\nf64 = {}\nc64 = {}\nc128 = {}", list(&e.f32), list(&e.f64), list(&e.c64), list(&e.c128));
+            let _ = writeln!(
+                s,
+                "f32 = {}\nf64 = {}\nc64 = {}\nc128 = {}",
+                list(&e.f32),
+                list(&e.f64),
+                list(&e.c64),
+                list(&e.c128)
+            );
+        }
+        if let Some(m) = &t.memory {
+            let _ = writeln!(s, "[threads.memory]            # share of the bandwidth when 2^elements_log2 elements move");
+            let _ = writeln!(s, "elements_log2 = {}", list(&m.elements_log2));
+            let _ = writeln!(s, "share = {}", list(&m.share));
         }
     }
     let _ = writeln!(s, "\n[calibration]");

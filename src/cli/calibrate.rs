@@ -82,7 +82,14 @@ fn text(o: &CalibrateOutcome) -> String {
         o.node.memory_source
     ));
     if let Some(l) = o.node.load {
-        s.push_str(&format!("load average at the start: {l:.2}{}\n", if l > 0.5 * m.cores as f64 { " (a busy node: figures may be low)" } else { "" }));
+        s.push_str(&format!(
+            "load average at the start: {l:.2}{}\n",
+            if l > 0.5 * m.cores as f64 {
+                " (a busy node: figures may be low)"
+            } else {
+                ""
+            }
+        ));
     }
     s.push_str(&format!(
         "overhead per contraction: {:.2} us\n",
@@ -113,7 +120,12 @@ fn text(o: &CalibrateOutcome) -> String {
     }
     s.push_str(&format!(
         "rates are multiply-adds per second of large products; use it with --machine {}\n",
-        if o.path.parent().is_some_and(|p| sliceplan::command::machines::profile_dirs().iter().any(|d| d == p)) {
+        if o.path
+            .parent()
+            .is_some_and(|p| sliceplan::command::machines::profile_dirs()
+                .iter()
+                .any(|d| d == p))
+        {
             m.name.clone()
         } else {
             o.path.display().to_string()

@@ -75,7 +75,13 @@ impl CalibrateOptions {
 fn sanitize(s: &str) -> String {
     let n: String = s
         .chars()
-        .map(|c| if c.is_ascii_alphanumeric() || c == '-' || c == '_' { c } else { '-' })
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || c == '-' || c == '_' {
+                c
+            } else {
+                '-'
+            }
+        })
         .collect();
     if n.is_empty() {
         "calibrated".into()

@@ -10,8 +10,7 @@ use crate::error::Result;
 use crate::jobs::resources::process_need;
 use crate::jobs::status::refresh_resubmit;
 use crate::jobs::{
-    job_status, write_jobs, JobOptions, JobStatus, Scheduler, TimeChoice, WrittenJobs,
-    SUBMIT_FILE,
+    job_status, write_jobs, JobOptions, JobStatus, Scheduler, TimeChoice, WrittenJobs, SUBMIT_FILE,
 };
 
 /// Options of `jobs` (writing a job directory).

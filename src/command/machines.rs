@@ -94,7 +94,12 @@ pub fn this_host_profile() -> Option<(Machine, PathBuf)> {
                 continue;
             }
             let Ok(m) = Machine::read(&p) else { continue };
-            let Some(date) = m.calibration.as_ref().filter(|c| c.host == host).map(|c| c.date.clone()) else {
+            let Some(date) = m
+                .calibration
+                .as_ref()
+                .filter(|c| c.host == host)
+                .map(|c| c.date.clone())
+            else {
                 continue;
             };
             let newer = best

@@ -8,11 +8,11 @@ use super::{check_optional_output, open_plan};
 use crate::cost::trace::live_trace;
 use crate::cost::{Dims, NodeSets, PeakModel};
 use crate::error::{Error, Result};
-use crate::report::memory_chart::MemoryProfile;
-use crate::report::steps_chart::StepCosts;
 use crate::plan::advise::Advice;
 use crate::report::fit::FitReport;
 use crate::report::inspect::TreeReport;
+use crate::report::memory_chart::MemoryProfile;
+use crate::report::steps_chart::StepCosts;
 
 /// Options of `report`.
 #[derive(Debug, Clone, Default)]
@@ -92,7 +92,11 @@ pub fn memory_profile(
         + crate::cost::memory::output_bytes(net, plan.dtype);
     let budget = (plan.budget_bytes > 0)
         .then(|| (plan.budget_bytes as f64 - fixed) / plan.slices_at_once.max(1) as f64);
-    Ok(MemoryProfile::new(&steps, plan.dtype.bytes() as f64, budget))
+    Ok(MemoryProfile::new(
+        &steps,
+        plan.dtype.bytes() as f64,
+        budget,
+    ))
 }
 
 /// The multiply-adds of every step of one slice of `plan`, in its
@@ -128,7 +132,10 @@ fn write_step_charts(
             write(p, &c.csv())?;
         }
         if let Some(p) = &opts.svg_steps {
-            let title = format!("{}: multiply-adds of each contraction of one slice", report.network.name);
+            let title = format!(
+                "{}: multiply-adds of each contraction of one slice",
+                report.network.name
+            );
             write(p, &c.svg(&title).map_err(Error::Cannot)?)?;
         }
     }

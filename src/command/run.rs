@@ -210,7 +210,11 @@ pub fn run(opts: &RunOptions, hooks: &Hooks<'_>) -> Result<RunOutcome> {
     let timed = clock
         .into_inner()
         .map(|c| c.finish(at_once == 1))
-        .unwrap_or(Timed { busy: report.seconds, first: None, steady: None });
+        .unwrap_or(Timed {
+            busy: report.seconds,
+            first: None,
+            steady: None,
+        });
     let time = slice_time(&plan, &net, &report, &timed)?;
     let mut outcome = RunOutcome {
         run: report,
@@ -297,13 +301,24 @@ impl Clock {
     }
 
     fn finish(&self, one_at_a_time: bool) -> Timed {
-        let (Some(begin), Some((first, n)), Some(last)) = (self.begin, self.first, self.last) else {
-            return Timed { busy: 0.0, first: None, steady: None };
+        let (Some(begin), Some((first, n)), Some(last)) = (self.begin, self.first, self.last)
+        else {
+            return Timed {
+                busy: 0.0,
+                first: None,
+                steady: None,
+            };
         };
-        let after = last.saturating_duration_since(first).saturating_sub(self.writing);
+        let after = last
+            .saturating_duration_since(first)
+            .saturating_sub(self.writing);
         let first_secs = first.saturating_duration_since(begin).as_secs_f64();
-        let steady = (one_at_a_time && n == 1 && self.after_first > 0)
-            .then(|| (after.as_secs_f64() / self.after_first as f64, self.after_first));
+        let steady = (one_at_a_time && n == 1 && self.after_first > 0).then(|| {
+            (
+                after.as_secs_f64() / self.after_first as f64,
+                self.after_first,
+            )
+        });
         Timed {
             busy: first_secs + after.as_secs_f64(),
             first: steady.map(|_| first_secs),

@@ -60,6 +60,7 @@ struct ThreadFile {
     bandwidth: String,
     rate: Rates,
     efficiency: Option<Efficiency>,
+    memory: Option<MemoryShare>,
 }
 
 /// Figures measured for slices running with a given number of threads.
@@ -73,6 +74,54 @@ pub struct ThreadFigures {
     pub rate: Rates,
     /// Share of the rate small products reach.
     pub efficiency: Option<Efficiency>,
+    /// Share of the bandwidth contractions reach by the data they move.
+    pub memory: Option<MemoryShare>,
+}
+
+/// The share of `bandwidth` a contraction moving 2^`elements_log2`
+/// elements (operands and result) reaches: above 1 while it fits in
+/// caches, below 1 for tensors far larger than the one measured.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MemoryShare {
+    /// log2 of the elements moved, increasing.
+    pub elements_log2: Vec<f64>,
+    /// The share of the bandwidth at each size.
+    pub share: Vec<f64>,
+}
+
+impl MemoryShare {
+    /// The (log2 elements, share) points.
+    pub fn points(&self) -> Vec<(f64, f64)> {
+        self.elements_log2
+            .iter()
+            .copied()
+            .zip(self.share.iter().copied())
+            .collect()
+    }
+
+    fn check(&self) -> std::result::Result<(), String> {
+        let n = self.elements_log2.len();
+        if n == 0 || self.elements_log2.windows(2).any(|w| !(w[0] < w[1])) {
+            return Err("memory.elements_log2 must list at least one size, increasing".into());
+        }
+        if self.share.len() != n {
+            return Err(format!(
+                "memory.share has {} shares but elements_log2 has {n} sizes; give one share per size",
+                self.share.len()
+            ));
+        }
+        if let Some(x) = self
+            .share
+            .iter()
+            .find(|x| !(x.is_finite() && **x > 0.0 && **x <= 100.0))
+        {
+            return Err(format!(
+                "memory.share: {x} must be a positive number (1 = the bandwidth)"
+            ));
+        }
+        Ok(())
+    }
 }
 
 /// The share of the rate one matrix product of 2^`ops_log2` multiply-adds
@@ -101,7 +150,11 @@ impl Efficiency {
             Dtype::C64 => &self.c64,
             Dtype::C128 => &self.c128,
         };
-        self.ops_log2.iter().copied().zip(shares.iter().copied()).collect()
+        self.ops_log2
+            .iter()
+            .copied()
+            .zip(shares.iter().copied())
+            .collect()
     }
 
     fn check(&self) -> std::result::Result<(), String> {
@@ -109,15 +162,25 @@ impl Efficiency {
         if n == 0 || self.ops_log2.windows(2).any(|w| !(w[0] < w[1])) {
             return Err("efficiency.ops_log2 must list at least one size, increasing".into());
         }
-        for (name, v) in [("f32", &self.f32), ("f64", &self.f64), ("c64", &self.c64), ("c128", &self.c128)] {
+        for (name, v) in [
+            ("f32", &self.f32),
+            ("f64", &self.f64),
+            ("c64", &self.c64),
+            ("c128", &self.c128),
+        ] {
             if v.len() != n {
                 return Err(format!(
                     "efficiency.{name} has {} shares but ops_log2 has {n} sizes; give one share per size",
                     v.len()
                 ));
             }
-            if let Some(x) = v.iter().find(|x| !(x.is_finite() && **x > 0.0 && **x <= 4.0)) {
-                return Err(format!("efficiency.{name}: share {x} must be a positive number (1 = the full rate)"));
+            if let Some(x) = v
+                .iter()
+                .find(|x| !(x.is_finite() && **x > 0.0 && **x <= 4.0))
+            {
+                return Err(format!(
+                    "efficiency.{name}: share {x} must be a positive number (1 = the full rate)"
+                ));
             }
         }
         Ok(())
@@ -303,16 +366,22 @@ impl Machine {
             if let Some(e) = &t.efficiency {
                 e.check().map_err(at)?;
             }
+            if let Some(m) = &t.memory {
+                m.check().map_err(at)?;
+            }
             threads.push(ThreadFigures {
                 threads: t.threads,
                 bandwidth: bandwidth as f64,
                 rate: t.rate,
                 efficiency: t.efficiency,
+                memory: t.memory,
             });
         }
         threads.sort_by_key(|t| t.threads);
         if threads.windows(2).any(|w| w[0].threads == w[1].threads) {
-            return Err(bad("two [[threads]] tables have the same thread count".into()));
+            return Err(bad(
+                "two [[threads]] tables have the same thread count".into()
+            ));
         }
         Ok(Machine {
             name: f.name,
@@ -440,7 +509,8 @@ pub fn estimate(
     dtype: Dtype,
     machine: &Machine,
 ) -> Estimate {
-    let per_threads = |t: u64| slice_seconds(sets, dims, dtype, &Speeds::for_threads(machine, dtype, t));
+    let per_threads =
+        |t: u64| slice_seconds(sets, dims, dtype, &Speeds::for_threads(machine, dtype, t));
     let threads_per_slice = machine.threads_per_slice();
     let per_slice = per_threads(threads_per_slice);
     let by_threads = machine

@@ -6,7 +6,8 @@
 //! For each pairwise contraction of a slice, with `t` threads per slice:
 //!
 //! ```text
-//! seconds = overhead + ops / (rate(t) x efficiency(t, size)) + moved / bandwidth(t)
+//! seconds = overhead + ops / (rate(t) x efficiency(t, size))
+//!                    + moved / (bandwidth(t) x memory share(t, moved))
 //! ```
 //!
 //! * `ops`: multiply-adds, the product of the dimensions of both operands'
@@ -18,7 +19,10 @@
 //!   large ones (call and packing costs, the plain loop below 256
 //!   multiply-adds); a calibrated profile measures this share per thread
 //!   count and dtype, a profile without the measurement uses 1.
-//! * `moved`: bytes of both operands and the result, once each.
+//! * `moved`: bytes of both operands and the result, once each; the
+//!   bandwidth's share depends on how much moves (caches hold small
+//!   contractions, large ones lose more to scattered copies), measured per
+//!   thread count by a calibrated profile, 1 otherwise.
 //! * `overhead`: the fixed cost of one contraction (index bookkeeping,
 //!   allocating the result), measured on tiny tensors.
 //!
@@ -52,7 +56,7 @@
 //! use sliceplan::cost::time::{Speeds, contraction_seconds, Step};
 //! // A 1000 x 1000 by 1000 x 1000 f64 product at 1e9 multiply-adds per
 //! // second is 1 s of compute; moving 3 x 8 MB at 1e10 B/s is 2.4 ms.
-//! let speeds = Speeds { threads: 1, rate: 1e9, bandwidth: 1e10, overhead: 0.0, efficiency: None };
+//! let speeds = Speeds { threads: 1, rate: 1e9, bandwidth: 1e10, overhead: 0.0, efficiency: None, memory: None };
 //! let step = Step { ops_log2: 3.0 * 1000f64.log2(), product_ops_log2: 3.0 * 1000f64.log2(), moved_elements: 3e6, indices: 3 };
 //! assert!((contraction_seconds(&speeds, &step, 8.0) - 1.0024).abs() < 1e-9);
 //! ```
@@ -77,6 +81,9 @@ pub struct Speeds {
     /// Share of `rate` reached by one product of 2^x multiply-adds:
     /// (x, share) points, x increasing; `None` means 1 everywhere.
     pub efficiency: Option<Vec<(f64, f64)>>,
+    /// Share of `bandwidth` reached when 2^x elements move: (x, share)
+    /// points; `None` means 1 everywhere.
+    pub memory: Option<Vec<(f64, f64)>>,
 }
 
 impl Speeds {
@@ -96,6 +103,7 @@ impl Speeds {
                 bandwidth: f.bandwidth,
                 overhead: machine.overhead_seconds,
                 efficiency: f.efficiency.as_ref().map(|e| e.points(dtype)),
+                memory: f.memory.as_ref().map(|m| m.points()),
             },
             None => {
                 let used = threads.min(machine.cores);
@@ -105,6 +113,7 @@ impl Speeds {
                     bandwidth: machine.bandwidth,
                     overhead: machine.overhead_seconds,
                     efficiency: None,
+                    memory: None,
                 }
             }
         }
@@ -113,16 +122,28 @@ impl Speeds {
     /// The share of the rate one product of 2^`x` multiply-adds reaches:
     /// linear between measured points in x, constant beyond the ends.
     pub fn share(&self, x: f64) -> f64 {
-        let Some(points) = &self.efficiency else {
-            return 1.0;
-        };
-        match points.iter().position(|&(px, _)| px >= x) {
-            None => points.last().map_or(1.0, |p| p.1),
-            Some(0) => points[0].1,
-            Some(i) => {
-                let ((x0, y0), (x1, y1)) = (points[i - 1], points[i]);
-                y0 + (y1 - y0) * (x - x0) / (x1 - x0)
-            }
+        interpolate(self.efficiency.as_deref(), x)
+    }
+
+    /// The share of the bandwidth when 2^`x` elements move (as
+    /// [`Speeds::share`]).
+    pub fn memory_share(&self, x: f64) -> f64 {
+        interpolate(self.memory.as_deref(), x)
+    }
+}
+
+/// Linear interpolation between (x, y) points, constant beyond the ends;
+/// 1 without points.
+fn interpolate(points: Option<&[(f64, f64)]>, x: f64) -> f64 {
+    let Some(points) = points.filter(|p| !p.is_empty()) else {
+        return 1.0;
+    };
+    match points.iter().position(|&(px, _)| px >= x) {
+        None => points.last().map_or(1.0, |p| p.1),
+        Some(0) => points[0].1,
+        Some(i) => {
+            let ((x0, y0), (x1, y1)) = (points[i - 1], points[i]);
+            y0 + (y1 - y0) * (x - x0) / (x1 - x0)
         }
     }
 }
@@ -168,7 +189,8 @@ pub fn steps(sets: &NodeSets, dims: &Dims) -> Vec<Step> {
 pub fn contraction_seconds(speeds: &Speeds, step: &Step, bytes: f64) -> f64 {
     let rate = speeds.rate * speeds.share(step.product_ops_log2).max(1e-9);
     let compute = step.ops_log2.exp2() / rate;
-    let memory = step.moved_elements * bytes / speeds.bandwidth;
+    let bandwidth = speeds.bandwidth * speeds.memory_share(step.moved_elements.log2()).max(1e-9);
+    let memory = step.moved_elements * bytes / bandwidth;
     speeds.overhead + compute + memory
 }
 
@@ -193,6 +215,7 @@ mod tests {
             bandwidth: 1.0,
             overhead: 0.0,
             efficiency: Some(vec![(0.0, 0.1), (10.0, 0.5), (20.0, 1.0)]),
+            memory: None,
         };
         // Linear interpolation by hand: halfway from (0, 0.1) to (10, 0.5).
         assert!((s.share(5.0) - 0.3).abs() < 1e-12);
@@ -206,8 +229,8 @@ mod tests {
         // a[x,i,k] b[x,k,j] -> v[x,i,j], dims x=8, i=k=j=4: x is a batch
         // index, so one product is 4 x 4 x 4 = 2^6 multiply-adds of 2^9 in
         // all; moved = 128 + 128 + 128 elements (closed form).
-        let net = crate::formats::einsum::network_from_einsum("xik,xkj->xij", Some(4), &[])
-            .unwrap();
+        let net =
+            crate::formats::einsum::network_from_einsum("xik,xkj->xij", Some(4), &[]).unwrap();
         let mut dims = Dims::of(&net);
         let x = net.index_id("x").unwrap();
         dims.dim[x] = 8;

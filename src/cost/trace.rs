@@ -60,8 +60,19 @@ impl LiveStep {
 }
 
 /// The steps of running the merges in `order` under `model`.
-pub fn live_trace(sets: &NodeSets, dims: &Dims, order: &[usize], model: PeakModel) -> Vec<LiveStep> {
-    let size = |v: usize| sets.indices[v].iter().map(|&e| dims.log2[e]).sum::<f64>().exp2();
+pub fn live_trace(
+    sets: &NodeSets,
+    dims: &Dims,
+    order: &[usize],
+    model: PeakModel,
+) -> Vec<LiveStep> {
+    let size = |v: usize| {
+        sets.indices[v]
+            .iter()
+            .map(|&e| dims.log2[e])
+            .sum::<f64>()
+            .exp2()
+    };
     let n = sets.leaves();
     let lazy = model.inputs == Inputs::OnFirstUse;
     let permute = model.workspace == Workspace::PermuteCopies;
@@ -72,7 +83,11 @@ pub fn live_trace(sets: &NodeSets, dims: &Dims, order: &[usize], model: PeakMode
         let [a, b] = sets.merge(k);
         let v = n + k;
         if lazy {
-            inputs += [a, b].iter().filter(|&&c| c < n).map(|&c| size(c)).sum::<f64>();
+            inputs += [a, b]
+                .iter()
+                .filter(|&&c| c < n)
+                .map(|&c| size(c))
+                .sum::<f64>();
         }
         let workspace = if permute {
             size(a).max(size(b)).max(size(v))
@@ -95,8 +110,16 @@ pub fn live_trace(sets: &NodeSets, dims: &Dims, order: &[usize], model: PeakMode
         intermediates += size(v);
     }
     if permute {
-        let root = if order.is_empty() { 0 } else { n + sets.num_merges() - 1 };
-        let held = if order.is_empty() && lazy { size(0) } else { 0.0 };
+        let root = if order.is_empty() {
+            0
+        } else {
+            n + sets.num_merges() - 1
+        };
+        let held = if order.is_empty() && lazy {
+            size(0)
+        } else {
+            0.0
+        };
         steps.push(LiveStep {
             merge: None,
             inputs: inputs + held,
@@ -117,7 +140,12 @@ mod tests {
         // Independent check: NodeSets::live_peak walks the same order with
         // its own simulation; the trace's largest total must equal it for
         // every model, on networks with hyperedges, open and sliced indices.
-        for eq in ["ab,bc,cd,de->ae", "abc,cde,efa,bdf->", "ab,ac,ad,ae,bcde->a", "ij,jk,kl,li,ik->"] {
+        for eq in [
+            "ab,bc,cd,de->ae",
+            "abc,cde,efa,bdf->",
+            "ab,ac,ad,ae,bcde->a",
+            "ij,jk,kl,li,ik->",
+        ] {
             let net = crate::formats::einsum::network_from_einsum(eq, Some(3), &[]).unwrap();
             for tree in [crate::tree::Tree::left_deep(net.num_tensors())] {
                 let sets = NodeSets::new(&net, &tree);
@@ -128,7 +156,14 @@ mod tests {
                         .iter()
                         .map(|s| Count::from_u128(s.iter().map(|&e| dims.dim[e] as u128).product()))
                         .collect();
-                    for model in [PeakModel::default(), PeakModel::EXECUTOR, PeakModel { inputs: Inputs::Resident, workspace: Workspace::PermuteCopies }] {
+                    for model in [
+                        PeakModel::default(),
+                        PeakModel::EXECUTOR,
+                        PeakModel {
+                            inputs: Inputs::Resident,
+                            workspace: Workspace::PermuteCopies,
+                        },
+                    ] {
                         let order = sets.evaluate(&dims, model).order;
                         let trace = live_trace(&sets, &dims, &order, model);
                         let top = trace.iter().map(LiveStep::total).fold(0.0, f64::max);

@@ -391,7 +391,11 @@ mod tests {
         assert_eq!(r.seconds, 180);
         let r = time_request(TimeChoice::Auto, Some(&per(1.2036e-7)), 1, 1).unwrap();
         assert!(r.basis.contains("1.20e-7 s per slice"), "{}", r.basis);
-        assert!(r.basis.contains("with 1 thread(s) per slice"), "{}", r.basis);
+        assert!(
+            r.basis.contains("with 1 thread(s) per slice"),
+            "{}",
+            r.basis
+        );
     }
 
     #[test]
@@ -430,7 +434,13 @@ mod tests {
         assert_eq!((s.seconds, s.threads), (32.0, 2));
         // 10 slices of 64 s, 2 x + 120 s = 1400 s -> 1440 s = 00:24:00,
         // where the node's rate would have asked for 00:03:00.
-        let r = time_request(TimeChoice::Auto, slice_seconds_for_task(&plan, 1, 1).as_ref(), 10, 1).unwrap();
+        let r = time_request(
+            TimeChoice::Auto,
+            slice_seconds_for_task(&plan, 1, 1).as_ref(),
+            10,
+            1,
+        )
+        .unwrap();
         assert_eq!(format_duration(r.seconds), "00:24:00");
     }
 

@@ -92,12 +92,14 @@ impl MemoryProfile {
                 s,
                 "{},{},{},{},{},{},{}",
                 p.step,
-                p.merge.map_or_else(|| "result".to_string(), |m| m.to_string()),
+                p.merge
+                    .map_or_else(|| "result".to_string(), |m| m.to_string()),
                 p.inputs_bytes,
                 p.intermediates_bytes,
                 p.workspace_bytes,
                 p.total_bytes(),
-                self.budget_bytes.map_or_else(String::new, |b| b.to_string())
+                self.budget_bytes
+                    .map_or_else(String::new, |b| b.to_string())
             );
         }
         s
@@ -145,7 +147,11 @@ impl MemoryProfile {
                 ("+ intermediates", blue, |p| {
                     p.inputs_bytes + p.intermediates_bytes
                 }),
-                ("+ workspace (operand copies, result)", orange, MemoryPoint::total_bytes),
+                (
+                    "+ workspace (operand copies, result)",
+                    orange,
+                    MemoryPoint::total_bytes,
+                ),
             ];
             for (label, color, value) in layers {
                 chart
@@ -158,11 +164,9 @@ impl MemoryProfile {
                     .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 20, y)], color));
             }
             chart
-                .draw_series(
-                    self.points
-                        .iter()
-                        .map(|p| Circle::new((xs(p.step), p.total_bytes() / scale), 2, orange.filled())),
-                )
+                .draw_series(self.points.iter().map(|p| {
+                    Circle::new((xs(p.step), p.total_bytes() / scale), 2, orange.filled())
+                }))
                 .map_err(e)?;
             if let Some(b) = self.budget_bytes {
                 chart
@@ -181,7 +185,11 @@ impl MemoryProfile {
             chart
                 .draw_series(std::iter::once(Circle::new(at, 7, RED.stroke_width(2))))
                 .map_err(e)?
-                .label(format!("peak {} at step {}", bytes_human(peak), self.peak_step))
+                .label(format!(
+                    "peak {} at step {}",
+                    bytes_human(peak),
+                    self.peak_step
+                ))
                 .legend(|(x, y)| Circle::new((x + 10, y), 5, RED.stroke_width(2)));
             chart
                 .configure_series_labels()

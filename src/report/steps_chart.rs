@@ -60,7 +60,12 @@ impl StepCosts {
             })
             .collect();
         let mut by_size: Vec<usize> = (0..steps.len()).collect();
-        by_size.sort_by(|&a, &b| steps[b].ops_log2.total_cmp(&steps[a].ops_log2).then(a.cmp(&b)));
+        by_size.sort_by(|&a, &b| {
+            steps[b]
+                .ops_log2
+                .total_cmp(&steps[a].ops_log2)
+                .then(a.cmp(&b))
+        });
         let mut dominant = Vec::new();
         let mut carried = 0.0;
         for i in by_size {
