@@ -102,7 +102,12 @@ impl MemoryShare {
 
     fn check(&self) -> std::result::Result<(), String> {
         let n = self.elements_log2.len();
-        if n == 0 || self.elements_log2.windows(2).any(|w| !(w[0] < w[1])) {
+        if n == 0
+            || self
+                .elements_log2
+                .windows(2)
+                .any(|w| w[0].partial_cmp(&w[1]) != Some(std::cmp::Ordering::Less))
+        {
             return Err("memory.elements_log2 must list at least one size, increasing".into());
         }
         if self.share.len() != n {
@@ -159,7 +164,12 @@ impl Efficiency {
 
     fn check(&self) -> std::result::Result<(), String> {
         let n = self.ops_log2.len();
-        if n == 0 || self.ops_log2.windows(2).any(|w| !(w[0] < w[1])) {
+        if n == 0
+            || self
+                .ops_log2
+                .windows(2)
+                .any(|w| w[0].partial_cmp(&w[1]) != Some(std::cmp::Ordering::Less))
+        {
             return Err("efficiency.ops_log2 must list at least one size, increasing".into());
         }
         for (name, v) in [

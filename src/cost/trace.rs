@@ -66,12 +66,15 @@ pub fn live_trace(
     order: &[usize],
     model: PeakModel,
 ) -> Vec<LiveStep> {
+    // Exact while the product fits an f64 mantissa, else from the log2s.
     let size = |v: usize| {
-        sets.indices[v]
-            .iter()
-            .map(|&e| dims.log2[e])
-            .sum::<f64>()
-            .exp2()
+        let idx = &sets.indices[v];
+        crate::num::product(idx.iter().map(|&e| dims.dim[e]))
+            .filter(|&p| p < 1 << 53)
+            .map_or_else(
+                || idx.iter().map(|&e| dims.log2[e]).sum::<f64>().exp2(),
+                |p| p as f64,
+            )
     };
     let n = sets.leaves();
     let lazy = model.inputs == Inputs::OnFirstUse;

@@ -135,6 +135,7 @@ impl MemoryProfile {
                 .map_err(e)?;
             chart
                 .configure_mesh()
+                .x_label_formatter(&|x| format!("{x:.0}"))
                 .x_desc("step of the traversal (last: result permuted into output order)")
                 .y_desc(format!("{unit} alive in one slice"))
                 .draw()
@@ -142,7 +143,7 @@ impl MemoryProfile {
             let green = RGBColor(44, 160, 44);
             let blue = RGBColor(31, 119, 180);
             let orange = RGBColor(214, 96, 20);
-            let layers: [(&str, RGBColor, fn(&MemoryPoint) -> f64); 3] = [
+            let layers: [Layer; 3] = [
                 ("inputs", green, |p| p.inputs_bytes),
                 ("+ intermediates", blue, |p| {
                     p.inputs_bytes + p.intermediates_bytes
@@ -203,6 +204,9 @@ impl MemoryProfile {
         Ok(svg)
     }
 }
+
+/// One stacked line: its label, colour and height at a point.
+type Layer = (&'static str, RGBColor, fn(&MemoryPoint) -> f64);
 
 /// A binary unit for an axis reaching `top` bytes: (bytes per unit, name).
 fn unit_of(top: f64) -> (f64, &'static str) {

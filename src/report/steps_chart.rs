@@ -15,6 +15,9 @@ pub const MAX_LABELS: usize = 5;
 /// Steps are labelled, largest first, until they carry this share of the
 /// total (or [`MAX_LABELS`] are).
 pub const LABEL_SHARE: f64 = 0.8;
+/// A step is labelled only when it carries at least this share: when the
+/// cost is spread evenly no step dominates, and none is labelled.
+pub const MIN_LABEL_SHARE: f64 = 0.1;
 
 /// One contraction in traversal order.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -69,7 +72,10 @@ impl StepCosts {
         let mut dominant = Vec::new();
         let mut carried = 0.0;
         for i in by_size {
-            if carried >= LABEL_SHARE || dominant.len() == MAX_LABELS {
+            if carried >= LABEL_SHARE
+                || dominant.len() == MAX_LABELS
+                || steps[i].share < MIN_LABEL_SHARE
+            {
                 break;
             }
             carried += steps[i].share;
@@ -98,7 +104,8 @@ impl StepCosts {
     }
 
     /// The chart: log2 multiply-adds per step as points joined by a line,
-    /// dominant steps ringed and labelled "k idx, s%".
+    /// dominant steps ringed and labelled "k idx, s%" (see
+    /// [`MIN_LABEL_SHARE`]).
     pub fn svg(&self, title: &str) -> Result<String, String> {
         if self.steps.is_empty() {
             return Err("the plan has no contraction step; nothing to draw".into());
@@ -126,6 +133,7 @@ impl StepCosts {
                 .map_err(e)?;
             chart
                 .configure_mesh()
+                .x_label_formatter(&|x| format!("{x:.0}"))
                 .x_desc("step of the traversal")
                 .y_desc("log2 multiply-adds")
                 .draw()
@@ -156,11 +164,13 @@ impl StepCosts {
                 .label("steps carrying most of the total (index count, share)")
                 .legend(move |(x, y)| Circle::new((x + 10, y), 5, red.stroke_width(2)));
             chart
-                .draw_series(self.dominant.iter().map(|&i| {
+                .draw_series(self.dominant.iter().enumerate().map(|(j, &i)| {
                     let s = &self.steps[i];
+                    // Alternate heights so labels of neighbouring steps do
+                    // not overprint each other.
                     Text::new(
                         format!("{} idx, {:.0}%", s.indices, 100.0 * s.share),
-                        (s.step as f64, s.ops_log2 + 0.6),
+                        (s.step as f64, s.ops_log2 + 0.6 + 0.7 * (j % 2) as f64),
                         ("sans-serif", 12).into_font().color(&red),
                     )
                 }))
@@ -175,5 +185,39 @@ impl StepCosts {
             root.present().map_err(e)?;
         }
         Ok(svg)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn step(ops_log2: f64) -> Step {
+        Step {
+            ops_log2,
+            product_ops_log2: ops_log2,
+            moved_elements: 1.0,
+            indices: 3,
+        }
+    }
+
+    #[test]
+    fn the_steps_carrying_most_of_the_total_are_labelled() {
+        // Shares by hand: 2^5 + 2^4 + 2^1 + 2^1 = 52; 32/52 = 0.615 and
+        // 16/52 = 0.308 carry 0.92 >= 0.8 after two steps; the 2^1 steps
+        // (0.038) are below the 0.1 floor anyway.
+        let by_merge = [step(1.0), step(5.0), step(1.0), step(4.0)];
+        let c = StepCosts::new(&by_merge, &[0, 1, 2, 3]);
+        assert_eq!(c.dominant, vec![1, 3]);
+        assert!((c.steps[1].share - 32.0 / 52.0).abs() < 1e-12);
+        // Eight equal steps (1/8 = 0.125 each, above the floor): the
+        // largest are labelled up to the limit of five.
+        let even = [step(3.0); 8];
+        let c = StepCosts::new(&even, &(0..8).collect::<Vec<_>>());
+        assert_eq!(c.dominant.len(), MAX_LABELS);
+        // Twenty equal steps carry 5% each: none dominates.
+        let flat = [step(3.0); 20];
+        let c = StepCosts::new(&flat, &(0..20).collect::<Vec<_>>());
+        assert!(c.dominant.is_empty());
     }
 }
