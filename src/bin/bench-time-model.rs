@@ -305,8 +305,10 @@ fn main() {
             .join("\n")
     );
     println!(
-        "runs use {threads} thread(s); each runs about {RUN_SECONDS} s of slices (at least one)\n"
+        "runs use {threads} thread(s); each runs about {RUN_SECONDS} s of slices (at least three when they fit in a minute), {REPEATS} times (once when longer than 20 s); the median counts\n"
     );
+    println!("| network | kind | dtype | tensors | slices | run | predicted s/slice | measured s/slice | measured / predicted |");
+    println!("|---|---|---|---:|---:|---:|---:|---:|---:|");
     let mut rows = Vec::new();
     for case in cases() {
         if only.as_deref().is_some_and(|o| o != case.name) {

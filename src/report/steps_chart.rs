@@ -6,6 +6,7 @@
 use std::fmt::Write as _;
 
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 use serde::Serialize;
 
 use crate::cost::time::Step;
@@ -161,17 +162,34 @@ impl StepCosts {
                     Circle::new((s.step as f64, s.ops_log2), 7, red.stroke_width(2))
                 }))
                 .map_err(e)?
-                .label("steps carrying most of the total (index count, share)")
+                .label(if self.dominant.is_empty() {
+                    format!(
+                        "no step carries {:.0}% of the total or more",
+                        100.0 * MIN_LABEL_SHARE
+                    )
+                } else {
+                    "steps carrying most of the total (index count, share)".to_string()
+                })
                 .legend(move |(x, y)| Circle::new((x + 10, y), 5, red.stroke_width(2)));
             chart
                 .draw_series(self.dominant.iter().enumerate().map(|(j, &i)| {
                     let s = &self.steps[i];
                     // Alternate heights so labels of neighbouring steps do
                     // not overprint each other.
+                    // Labels of the right quarter end at their point, so the
+                    // plot's edge does not cut them.
+                    let h = if (s.step as f64) > 0.75 * n as f64 {
+                        HPos::Right
+                    } else {
+                        HPos::Left
+                    };
                     Text::new(
                         format!("{} idx, {:.0}%", s.indices, 100.0 * s.share),
                         (s.step as f64, s.ops_log2 + 0.6 + 0.7 * (j % 2) as f64),
-                        ("sans-serif", 12).into_font().color(&red),
+                        ("sans-serif", 12)
+                            .into_font()
+                            .color(&red)
+                            .pos(Pos::new(h, VPos::Bottom)),
                     )
                 }))
                 .map_err(e)?;
