@@ -25,8 +25,10 @@
 //!   repeated timing is not taken, as a plan's sequence of different
 //!   tensors does not get it).
 //!
-//! Once: the **overhead** of one contraction (the mean of the small
-//! contractions of [`Shape::small`]),
+//! Once: the **overhead** of one contraction: the mean of the small
+//! contractions of [`Shape::small`], or, when larger, what whole slices of
+//! a small lattice run by the executor's slice walk take per contraction
+//! beyond the model's other terms,
 //! and from the operating system the cores and memory this process may use
 //! ([`node`]). Each figure is the median of a few repetitions of at least
 //! [`Settings::min_seconds`].
@@ -153,7 +155,7 @@ pub fn calibrate(
         .max(1);
     let counts = thread_counts(cores);
     let per_count = Dtype::ALL.len() * 2 * (1 + EFFICIENCY_POINTS.len()) + MEMORY_POINTS.len();
-    let total = 3 + counts.len() * per_count;
+    let total = 4 + counts.len() * per_count;
     let mut m = Timer {
         settings,
         progress,
@@ -162,7 +164,7 @@ pub fn calibrate(
         total,
     };
     let small = Shape::small();
-    let mut overhead = 0.0;
+    let mut overhead: f64 = 0.0;
     for shape in &small {
         overhead += m.time::<f64>("overhead of one contraction", shape, 1)? / small.len() as f64;
     }
@@ -173,6 +175,11 @@ pub fn calibrate(
             .build()
             .map_err(|e| Error::Cannot(format!("cannot start {t} threads: {e}")))?;
         threads.push(pool.install(|| m.thread_figures(t))?);
+    }
+    // The overhead as a slice meets it: whole slices of a small lattice,
+    // less what the model's other terms account for, per contraction.
+    if let Some(in_slices) = m.slice_overhead(&threads[0])? {
+        overhead = overhead.max(in_slices);
     }
     let node_figures = threads.last().expect("at least one thread count").clone();
     let machine = Machine {
@@ -253,6 +260,74 @@ impl Timer<'_> {
         let a = self.time::<T>(what, &Shape::batched(batch, m, k, n, false), threads)?;
         let b = self.time::<T>(what, &Shape::batched(batch, m, k, n, true), threads)?;
         Ok((a + b) / 2.0)
+    }
+
+    /// Seconds per contraction that whole slices take beyond the model's
+    /// compute and memory terms: slices of a 6 x 6 lattice of bond
+    /// dimension 2 (random f64 values, contracted row by row, 35
+    /// contractions of at most a few hundred elements) run by the
+    /// executor's own slice walk, one thread. `None` when the terms
+    /// already cover the time.
+    fn slice_overhead(&mut self, one_thread: &ThreadFigures) -> Result<Option<f64>> {
+        use crate::cost::time::{slice_seconds, Speeds};
+        use crate::exec::matmul::FaerMatMul;
+        use crate::exec::memory::Meter as Bytes;
+        use crate::exec::pairwise::Context;
+        use crate::exec::slice::Prepared;
+        if self.stop.load(Ordering::SeqCst) {
+            return Err(Error::Cannot(
+                "calibration stopped before it finished; nothing written".into(),
+            ));
+        }
+        (self.progress)(Progress {
+            done: self.done,
+            total: self.total,
+            what: "overhead within whole slices",
+        });
+        let net = crate::generate::values::fill(
+            crate::generate::lattice(&[6, 6], 2, false)?,
+            crate::generate::values::Filler::Random { seed: 1 },
+        );
+        let tree = crate::tree::Tree::left_deep(net.num_tensors());
+        let merges = tree.merges().len();
+        let order: Vec<usize> = (0..merges).collect();
+        let bytes = Bytes::new();
+        let prepared = Prepared::<f64>::new(&net, &tree, &order, &[], &bytes)?;
+        let ctx = Context {
+            mm: &FaerMatMul,
+            meter: &bytes,
+            threads: 1,
+        };
+        let slice = || std::hint::black_box(prepared.run_slice(&ctx, &[]).data().len());
+        slice();
+        let t0 = std::time::Instant::now();
+        slice();
+        let once = t0.elapsed().as_secs_f64().max(1e-9);
+        let calls = ((self.settings.min_seconds / once).ceil() as usize).clamp(1, 1 << 20);
+        let mut times: Vec<f64> = (0..self.settings.reps.max(1))
+            .map(|_| {
+                let t = std::time::Instant::now();
+                for _ in 0..calls {
+                    slice();
+                }
+                t.elapsed().as_secs_f64() / calls as f64
+            })
+            .collect();
+        times.sort_by(f64::total_cmp);
+        let measured = times[times.len() / 2];
+        self.done += 1;
+        let speeds = Speeds {
+            threads: 1,
+            rate: one_thread.rate.f64,
+            bandwidth: one_thread.bandwidth,
+            overhead: 0.0,
+            efficiency: one_thread.efficiency.as_ref().map(|e| e.points(Dtype::F64)),
+            memory: one_thread.memory.as_ref().map(|m| m.points()),
+        };
+        let sets = crate::cost::NodeSets::new(&net, &tree);
+        let terms = slice_seconds(&sets, &crate::cost::Dims::of(&net), Dtype::F64, &speeds);
+        let per = (measured - terms) / merges as f64;
+        Ok((per > 0.0).then_some(per))
     }
 
     /// Rate and efficiency curve of one dtype.

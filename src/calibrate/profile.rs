@@ -25,7 +25,7 @@ fn methods(node: &NodeFacts, settings: &Settings) -> Vec<(&'static str, String)>
             "the same kernel on batches of 2^{BATCH_OPS_LOG2} multiply-adds of nearly cubic products of 2^x each over dimension-2 indices (batch indices shared by both operands), stored in matrix order and permuted, over the rate"
         )),
         ("bandwidth", "bytes of operands and result per second of the same kernel on a memory-bound gate-like f64 contraction (2^22 elements over dimension-2 indices by 2 x 2 on one of them, stored permuted); [threads.memory] the same at 2^10, 2^14, 2^18 and 2^25 elements over it".to_string()),
-        ("overhead_seconds", "mean seconds per call of the same kernel on three small f64 contractions over dimension-2 indices: 2 x 2 by 2 x 2 in matrix layout, a batch of two stored permuted, and two 4-index tensors sharing two, both copied first".to_string()),
+        ("overhead_seconds", "the larger of: mean seconds per call of the same kernel on three small f64 contractions over dimension-2 indices (2 x 2 by 2 x 2 in matrix layout, a batch of two stored permuted, two 4-index tensors sharing two, both copied first); and the seconds per contraction that whole slices of a 6 x 6 bond-2 lattice (the executor's slice walk, one thread) take beyond the model's compute and memory terms".to_string()),
     ]
 }
 
