@@ -199,8 +199,15 @@ pub fn recorded_cwd(stand_in_dir: &Path, i: u64) -> String {
 
 /// Runs the real binary; returns (exit code, stdout, stderr).
 pub fn sliceplan<S: AsRef<std::ffi::OsStr>>(args: &[S]) -> (Option<i32>, String, String) {
+    // No machine profiles of the user's or this host's: `jobs` would take
+    // this host's calibrated profile for plans without an estimate.
     let out = Command::new(env!("CARGO_BIN_EXE_sliceplan"))
         .args(args)
+        .env(
+            "XDG_CONFIG_HOME",
+            std::env::temp_dir().join("sliceplan-tests-without-profiles"),
+        )
+        .env_remove("SLICEPLAN_MACHINES")
         .output()
         .unwrap();
     (
