@@ -9,6 +9,7 @@
 
 #![warn(missing_docs)]
 
+pub mod calibrate;
 pub mod chunk;
 pub mod command;
 pub mod cost;

@@ -54,7 +54,9 @@ pub struct JobsArgs {
     #[arg(long, value_name = "A")]
     account: Option<String>,
 
-    /// Time limit per task: auto (the plan's estimate x2 + 2 min) or HH:MM:SS / D-HH:MM:SS.
+    /// Time limit per task: auto (the plan's estimate for the threads each
+    /// slice of a task gets, x2 + 2 min; without an estimate, this host's
+    /// calibrated profile) or HH:MM:SS / D-HH:MM:SS.
     #[arg(long, value_name = "auto|HH:MM:SS", default_value = "auto")]
     time_per_task: String,
 

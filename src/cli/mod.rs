@@ -4,6 +4,7 @@
 //! into `sliceplan::command`.
 
 mod args;
+mod calibrate;
 mod fit;
 mod gather;
 mod generate;
@@ -91,6 +92,10 @@ pub enum Command {
     /// circuit, matrix chain) as a native network file.
     #[command(after_help = generate::EXAMPLES)]
     Generate(generate::GenerateArgs),
+    /// Measure this node (the executor's rates per thread count, memory
+    /// bandwidth, overhead, cores, memory) and write its machine profile.
+    #[command(after_help = calibrate::EXAMPLES)]
+    Calibrate(calibrate::CalibrateArgs),
 }
 
 /// Runs a parsed command line. Library errors travel inside the
@@ -110,6 +115,7 @@ fn dispatch(cli: Cli) -> Result<Outcome> {
         Command::Gather(args) => gather::run(args),
         Command::Import(args) => import::run(args),
         Command::Generate(args) => generate::run(args),
+        Command::Calibrate(args) => calibrate::run(args),
     }
 }
 

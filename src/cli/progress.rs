@@ -114,6 +114,16 @@ impl Bars {
                     Progress::ChunkDone { .. } => {}
                 }
             }
+            Event::Calibrate(p) => {
+                let bar = guard.get_or_insert_with(|| {
+                    self.start(
+                        p.total as u64,
+                        "{bar:40} {pos}/{len} timings  eta {eta}  {msg}",
+                    )
+                });
+                bar.set_position(p.done as u64);
+                bar.set_message(p.what.to_string());
+            }
         }
     }
 }

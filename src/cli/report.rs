@@ -13,7 +13,9 @@ pub(super) const EXAMPLES: &str = "Examples:
   sliceplan report ising.plan.toml
   sliceplan report ising.plan.toml --json
   sliceplan report ising.plan.toml --csv frontier.csv --svg frontier.svg
-  sliceplan report ising.plan.toml --steps steps.json";
+  sliceplan report ising.plan.toml --steps steps.json
+  sliceplan report ising.plan.toml --svg-memory memory.svg --svg-steps steps.svg
+  sliceplan report ising.plan.toml --csv-memory memory.csv --csv-steps steps.csv";
 
 /// Arguments of `report`.
 #[derive(Debug, Args)]
@@ -42,6 +44,24 @@ pub struct ReportArgs {
     /// equations) as JSON to this file, for running the plan elsewhere.
     #[arg(long, value_name = "FILE")]
     steps: Option<PathBuf>,
+
+    /// Write the memory of one slice step by step (inputs, intermediates,
+    /// workspace; budget and peak marked) as an SVG chart to this file.
+    #[arg(long, value_name = "FILE")]
+    svg_memory: Option<PathBuf>,
+
+    /// Write the same memory figures as CSV to this file.
+    #[arg(long, value_name = "FILE")]
+    csv_memory: Option<PathBuf>,
+
+    /// Write the multiply-adds of each contraction of one slice (log scale,
+    /// dominant steps labelled) as an SVG chart to this file.
+    #[arg(long, value_name = "FILE")]
+    svg_steps: Option<PathBuf>,
+
+    /// Write the same step costs as CSV to this file.
+    #[arg(long, value_name = "FILE")]
+    csv_steps: Option<PathBuf>,
 }
 
 pub(super) fn run(args: ReportArgs) -> Result<Outcome> {
@@ -51,6 +71,10 @@ pub(super) fn run(args: ReportArgs) -> Result<Outcome> {
         csv: args.csv,
         svg: args.svg,
         steps: args.steps,
+        svg_memory: args.svg_memory,
+        csv_memory: args.csv_memory,
+        svg_steps: args.svg_steps,
+        csv_steps: args.csv_steps,
     };
     let r = report(&opts)?;
     Ok(Outcome::render(args.json, &r, r.to_text(), exit_code(&r)))

@@ -10,7 +10,7 @@ use super::gather::gathered_text;
 use super::progress::Bars;
 use super::{Outcome, EXIT_CANNOT};
 use sliceplan::chunk::ChunkId;
-use sliceplan::command::run::{run as run_command, RunOptions, Which};
+use sliceplan::command::run::{run as run_command, RunOptions, SliceTime, Which};
 use sliceplan::command::{Event, Hooks};
 use sliceplan::error::{Error, Result};
 use sliceplan::exec::report::{run_text, verify_text};
@@ -128,6 +128,7 @@ pub(super) fn run(args: RunArgs) -> Result<Outcome> {
     let outcome = run_command(&opts, &hooks)?;
     drop(bars);
     let mut text = run_text(&outcome.run, &outcome.dir.display().to_string());
+    text.push_str(&time_text(&outcome.time));
     if let Some(g) = &outcome.result {
         text.push_str(&gathered_text(g));
     }
@@ -136,6 +137,55 @@ pub(super) fn run(args: RunArgs) -> Result<Outcome> {
     }
     let code = if outcome.succeeded() { 0 } else { EXIT_CANNOT };
     Ok(Outcome::render(args.json, &outcome, text, code))
+}
+
+/// Seconds for people: three significant digits.
+fn secs(s: f64) -> String {
+    if s >= 100.0 {
+        format!("{s:.0} s")
+    } else if s >= 0.01 {
+        format!("{s:.3} s")
+    } else {
+        format!("{:.3} ms", s * 1e3)
+    }
+}
+
+/// How the measurement was made, when the first slice was timed apart.
+fn first_text(t: &SliceTime) -> String {
+    match t.first_slice_seconds {
+        Some(f) if t.slices_timed > 0 && t.measured_seconds_per_slice.is_some() => format!(
+            " (mean of {} slice(s) after the first, which took {} with start-up)",
+            t.slices_timed,
+            secs(f)
+        ),
+        _ => String::new(),
+    }
+}
+
+/// The time line of a run: predicted and measured seconds per slice.
+fn time_text(t: &SliceTime) -> String {
+    let measured = t
+        .measured_seconds_per_slice
+        .map_or_else(|| "nothing ran".to_string(), secs);
+    match &t.predicted {
+        Some(p) => format!(
+            "time per slice: predicted {} (model, profile {} for {} thread(s), {}), measured {measured} with {} thread(s){}{}\n",
+            secs(p.seconds_per_slice),
+            p.machine,
+            p.threads,
+            p.source,
+            t.threads_per_slice,
+            first_text(t),
+            t.ratio
+                .map_or_else(String::new, |r| format!("; measured / predicted = {r:.2}"))
+        ),
+        None => format!(
+            "time per slice: measured {measured} with {} thread(s){}; {}\n",
+            t.threads_per_slice,
+            first_text(t),
+            t.note.as_deref().unwrap_or("no prediction")
+        ),
+    }
 }
 
 #[cfg(test)]

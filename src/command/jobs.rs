@@ -10,7 +10,7 @@ use crate::error::Result;
 use crate::jobs::resources::process_need;
 use crate::jobs::status::refresh_resubmit;
 use crate::jobs::{
-    job_status, write_jobs, JobOptions, JobStatus, Scheduler, WrittenJobs, SUBMIT_FILE,
+    job_status, write_jobs, JobOptions, JobStatus, Scheduler, TimeChoice, WrittenJobs, SUBMIT_FILE,
 };
 
 /// Options of `jobs` (writing a job directory).
@@ -42,11 +42,24 @@ pub struct JobsOutcome {
 /// first), and submits it when asked.
 pub fn write(opts: &JobsOptions, scheduler: &mut dyn Scheduler) -> Result<JobsOutcome> {
     opts.job.check()?;
-    let (plan, net) = open_plan(&opts.plan, opts.network.as_deref())?;
+    let (mut plan, net) = open_plan(&opts.plan, opts.network.as_deref())?;
     // The tasks read the values on the cluster: check them here first.
     crate::network::values::check_value_files(&net)?;
     let need = process_need(&plan, &net)?;
-    let written = write_jobs(&opts.plan, &plan, &need, &opts.job, &opts.out)?;
+    let mut note = None;
+    if plan.estimate.is_none() && opts.job.time == TimeChoice::Auto {
+        if let Some((machine, path)) = super::machines::this_host_profile() {
+            plan.estimate = Some(estimate_with(&plan, &net, &machine)?);
+            note = Some(format!(
+                "the plan has no time estimate: --time comes from this host's calibrated profile '{}' ({}), measured {}; plan with --machine to use another node type's figures",
+                machine.name,
+                path.display(),
+                machine.calibration.as_ref().map_or("", |c| c.date.as_str())
+            ));
+        }
+    }
+    let mut written = write_jobs(&opts.plan, &plan, &need, &opts.job, &opts.out)?;
+    written.notes.extend(note);
     let submitted_job = if opts.submit {
         Some(scheduler.submit(&written.dir.join(SUBMIT_FILE))?)
     } else {
@@ -56,6 +69,25 @@ pub fn write(opts: &JobsOptions, scheduler: &mut dyn Scheduler) -> Result<JobsOu
         written,
         submitted_job,
     })
+}
+
+/// The model estimate of `plan` on `machine`.
+fn estimate_with(
+    plan: &crate::plan::Plan,
+    net: &crate::network::Network,
+    machine: &crate::cost::machine::Machine,
+) -> Result<crate::cost::machine::Estimate> {
+    let tree = plan.tree()?;
+    let sliced = plan.sliced_ids(net)?;
+    let sets = crate::cost::NodeSets::new(net, &tree);
+    let slices = plan.slice_count().map_or(f64::INFINITY, |s| s as f64);
+    Ok(crate::cost::machine::estimate(
+        &sets,
+        &crate::cost::Dims::sliced(net, &sliced),
+        slices,
+        plan.dtype,
+        machine,
+    ))
 }
 
 /// What `jobs --status` found.

@@ -45,7 +45,7 @@ pub fn user_profile_dir() -> Option<PathBuf> {
 }
 
 /// True when `spec` reads as a bare profile name (not a path).
-fn is_name(spec: &str) -> bool {
+pub fn is_name(spec: &str) -> bool {
     !spec.is_empty()
         && !spec.ends_with(".toml")
         && spec
@@ -76,6 +76,42 @@ pub fn resolve_machine(spec: &str) -> Result<Machine> {
             known_names().join(", ")
         ),
     ))
+}
+
+/// The newest calibrated profile of this host in the profile directories
+/// (its `[calibration] host` is this host's name), and its file.
+pub fn this_host_profile() -> Option<(Machine, PathBuf)> {
+    let host = crate::calibrate::read_node().host;
+    let mut best: Option<(Machine, PathBuf)> = None;
+    for dir in profile_dirs() {
+        let Ok(entries) = std::fs::read_dir(&dir) else {
+            continue;
+        };
+        let mut files: Vec<PathBuf> = entries.filter_map(|e| e.ok()).map(|e| e.path()).collect();
+        files.sort();
+        for p in files {
+            if p.extension().and_then(|x| x.to_str()) != Some("toml") {
+                continue;
+            }
+            let Ok(m) = Machine::read(&p) else { continue };
+            let Some(date) = m
+                .calibration
+                .as_ref()
+                .filter(|c| c.host == host)
+                .map(|c| c.date.clone())
+            else {
+                continue;
+            };
+            let newer = best
+                .as_ref()
+                .and_then(|(b, _)| b.calibration.as_ref())
+                .is_none_or(|c| date > c.date);
+            if newer {
+                best = Some((m, p));
+            }
+        }
+    }
+    best
 }
 
 /// Every profile name that [`resolve_machine`] finds, shipped ones last.

@@ -12,6 +12,7 @@
 //! | `gather` | [`gather::gather`] | [`gather::GatherOutcome`] |
 //! | `import` | [`import::import`] | [`import::WriteReport`] |
 //! | `generate` | [`generate::generate`] | [`import::WriteReport`] |
+//! | `calibrate` | [`calibrate::calibrate`] | [`calibrate::CalibrateOutcome`] |
 //!
 //! The binary only turns arguments into these options, renders the
 //! reports and maps errors to exit codes; benchmarks and tests call the
@@ -34,6 +35,7 @@
 //! assert!(outcome.report.fits);
 //! ```
 
+pub mod calibrate;
 pub mod fit;
 pub mod gather;
 pub mod generate;
@@ -71,6 +73,8 @@ pub enum Event<'a> {
     SlicingDone,
     /// The executor made progress.
     Run(crate::exec::Progress<'a>),
+    /// A calibration made progress.
+    Calibrate(crate::calibrate::Progress<'a>),
 }
 
 /// The callbacks of a command: progress events, and a flag that asks long

@@ -14,6 +14,8 @@ pub mod bytes;
 pub mod machine;
 pub mod memory;
 pub mod peak;
+pub mod time;
+pub mod trace;
 
 use serde::Serialize;
 

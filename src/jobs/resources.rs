@@ -8,12 +8,13 @@
 //! rounded up to whole MiB (Slurm's `M` is 2^20 bytes). An explicit size
 //! below the need is refused: such a task would be killed.
 //!
-//! Time: the plan's model estimate per slice times the rounds one task runs
-//! (its slice count over the slices it runs at once), times
-//! [`TIME_SAFETY_FACTOR`], plus [`TIME_STARTUP_SECONDS`] for reading the
-//! network and writing the partial, rounded up to whole minutes (Slurm's
-//! granularity). Without an estimate in the plan the user must give the
-//! time.
+//! Time: the plan's model estimate per slice *for the threads each slice of
+//! the task gets* (`--cpus-per-task` over the slices it runs at once; see
+//! [`slice_seconds_for_task`]), times the rounds one task runs (its slice
+//! count over the slices it runs at once), times [`TIME_SAFETY_FACTOR`],
+//! plus [`TIME_STARTUP_SECONDS`] for reading the network and writing the
+//! partial, rounded up to whole minutes (Slurm's granularity). Without an
+//! estimate the user must give the time.
 
 use serde::{Deserialize, Serialize};
 
@@ -177,6 +178,33 @@ pub fn process_need(plan: &Plan, net: &Network) -> Result<MemoryNeed> {
     })
 }
 
+/// The model's seconds per slice for the slices of one task.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SliceSeconds {
+    /// Model seconds for one slice.
+    pub seconds: f64,
+    /// The threads per slice the figure is for (0: the plan's estimate
+    /// predates per-thread figures and is for the machine's whole node).
+    pub threads: u64,
+    /// The machine profile's name.
+    pub machine: String,
+}
+
+/// The plan's model seconds per slice when a task with `cpus` CPUs runs
+/// `parallel` slices at once, so each slice has `cpus / parallel` threads:
+/// the estimate's figure for the largest listed thread count not above
+/// that (fewer threads are never faster, so this errs long).
+pub fn slice_seconds_for_task(plan: &Plan, cpus: u64, parallel: u64) -> Option<SliceSeconds> {
+    let e = plan.estimate.as_ref()?;
+    let threads = (cpus / parallel.max(1)).max(1);
+    let (seconds, threads) = e.seconds_for_threads(threads);
+    Some(SliceSeconds {
+        seconds,
+        threads,
+        machine: e.machine.clone(),
+    })
+}
+
 /// The time request and how it was made.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TimeRequest {
@@ -187,11 +215,10 @@ pub struct TimeRequest {
 }
 
 /// The time request for a task of at most `slices` slices running
-/// `parallel` at once, with the model's `seconds_per_slice` when the plan
-/// has an estimate.
+/// `parallel` at once, with the model's seconds per slice when known.
 pub fn time_request(
     choice: TimeChoice,
-    seconds_per_slice: Option<f64>,
+    per_slice: Option<&SliceSeconds>,
     slices: u64,
     parallel: u64,
 ) -> Result<TimeRequest> {
@@ -201,12 +228,13 @@ pub fn time_request(
             basis: "given".into(),
         }),
         TimeChoice::Auto => {
-            let per = seconds_per_slice.ok_or_else(|| {
+            let given = per_slice.ok_or_else(|| {
                 Error::invalid(
                     "time_per_task",
-                    "the plan has no time estimate: give the time per task as HH:MM:SS, or plan again with a machine profile (e.g. cpu-64g) to get an estimate",
+                    "the plan has no time estimate and this host has no calibrated machine profile: give the time per task as HH:MM:SS, run `sliceplan calibrate` on a node of the cluster, or plan again with a machine profile to get an estimate",
                 )
             })?;
+            let per = given.seconds;
             if !(per.is_finite() && per >= 0.0) {
                 return Err(Error::invalid(
                     "time_per_task",
@@ -228,8 +256,12 @@ pub fn time_request(
             Ok(TimeRequest {
                 seconds,
                 basis: format!(
-                    "{rounds} round(s) x {} s per slice (model estimate) x {TIME_SAFETY_FACTOR} safety + {TIME_STARTUP_SECONDS} s start-up, rounded up to minutes",
-                    seconds_text(per)
+                    "{rounds} round(s) x {} s per slice ({}) x {TIME_SAFETY_FACTOR} safety + {TIME_STARTUP_SECONDS} s start-up, rounded up to minutes",
+                    seconds_text(per),
+                    match given.threads {
+                        0 => format!("model estimate on {}, for its whole node", given.machine),
+                        t => format!("model estimate on {} with {t} thread(s) per slice", given.machine),
+                    }
                 ),
             })
         }
@@ -339,18 +371,77 @@ mod tests {
         assert_eq!(r.mib, 21);
     }
 
+    fn per(seconds: f64) -> SliceSeconds {
+        SliceSeconds {
+            seconds,
+            threads: 1,
+            machine: "m".into(),
+        }
+    }
+
     #[test]
     fn auto_time_needs_an_estimate() {
         let e = time_request(TimeChoice::Auto, None, 4, 1).unwrap_err();
         assert!(e.to_string().contains("no time estimate"), "{e}");
         // Closed form: ceil(5 / 2) = 3 rounds x 100 s x 2 + 120 s = 720 s.
-        let r = time_request(TimeChoice::Auto, Some(100.0), 5, 2).unwrap();
+        let r = time_request(TimeChoice::Auto, Some(&per(100.0)), 5, 2).unwrap();
         assert_eq!(r.seconds, 720);
         // 1 round x 0.5 s x 2 + 120 = 121 s -> 180 s (whole minutes).
-        let r = time_request(TimeChoice::Auto, Some(0.5), 1, 1).unwrap();
+        let r = time_request(TimeChoice::Auto, Some(&per(0.5)), 1, 1).unwrap();
         assert_eq!(r.seconds, 180);
-        let r = time_request(TimeChoice::Auto, Some(1.2036e-7), 1, 1).unwrap();
+        let r = time_request(TimeChoice::Auto, Some(&per(1.2036e-7)), 1, 1).unwrap();
         assert!(r.basis.contains("1.20e-7 s per slice"), "{}", r.basis);
+        assert!(
+            r.basis.contains("with 1 thread(s) per slice"),
+            "{}",
+            r.basis
+        );
+    }
+
+    #[test]
+    fn tasks_get_the_time_of_their_own_threads() {
+        // A plan estimated on a 64-core node: 1 s per slice with 64
+        // threads, 64 s with 1 thread (a rate that scales with threads).
+        use crate::cost::machine::{Estimate, ThreadSeconds};
+        let mut plan = crate::plan::Plan::for_tree(
+            &crate::formats::einsum::network_from_einsum("ab,bc->ac", Some(2), &[]).unwrap(),
+            "n.toml",
+            &crate::tree::Tree::left_deep(2),
+            &[],
+            crate::network::Dtype::F64,
+            0,
+        );
+        plan.estimate = Some(Estimate {
+            machine: "node".into(),
+            seconds_per_slice: 1.0,
+            wall_seconds: 1.0,
+            nodes_used: 1,
+            node_hours: 1.0 / 3600.0,
+            method: String::new(),
+            threads_per_slice: 64,
+            by_threads: [1, 2, 4, 8, 16, 32, 64]
+                .map(|t| ThreadSeconds {
+                    threads: t,
+                    seconds_per_slice: 64.0 / t as f64,
+                })
+                .to_vec(),
+        });
+        // --cpus-per-task 1: 64 s per slice, not the node's 1 s.
+        let s = slice_seconds_for_task(&plan, 1, 1).unwrap();
+        assert_eq!((s.seconds, s.threads), (64.0, 1));
+        // 6 CPUs, 2 slices at once: 3 threads each -> the 2-thread figure.
+        let s = slice_seconds_for_task(&plan, 6, 2).unwrap();
+        assert_eq!((s.seconds, s.threads), (32.0, 2));
+        // 10 slices of 64 s, 2 x + 120 s = 1400 s -> 1440 s = 00:24:00,
+        // where the node's rate would have asked for 00:03:00.
+        let r = time_request(
+            TimeChoice::Auto,
+            slice_seconds_for_task(&plan, 1, 1).as_ref(),
+            10,
+            1,
+        )
+        .unwrap();
+        assert_eq!(format_duration(r.seconds), "00:24:00");
     }
 
     #[test]

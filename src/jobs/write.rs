@@ -9,7 +9,7 @@ use super::array::array_spec;
 use super::manifest::{read_manifest, write_manifest, ChunkEntry, Manifest, TaskSettings};
 use super::manifest::{MANIFEST_FORMAT, MANIFEST_VERSION};
 use super::quote::{pattern_dir, plain_value, script_path};
-use super::resources::{mem_request, time_request, MemChoice, TimeChoice};
+use super::resources::{mem_request, slice_seconds_for_task, time_request, MemChoice, TimeChoice};
 use super::scripts::{local_script, sbatch_script, ScriptPaths};
 use super::{chunk_range, partial_file_name, LOCAL_FILE, LOGS_DIR, PARTIALS_DIR, SUBMIT_FILE};
 use crate::cost::memory::MemoryNeed;
@@ -150,10 +150,10 @@ pub fn write_jobs(
     let mem = mem_request(need, opts.mem)?;
     let longest = chunk_range(slices, 0, chunks);
     let parallel = plan.slices_at_once.max(1).min(cpus);
-    let seconds_per_slice = plan.estimate.as_ref().map(|e| e.seconds_per_slice);
+    let per_slice = slice_seconds_for_task(plan, cpus, parallel);
     let time = time_request(
         opts.time,
-        seconds_per_slice,
+        per_slice.as_ref(),
         longest.end - longest.start,
         parallel,
     )?;

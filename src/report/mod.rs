@@ -4,8 +4,10 @@ pub mod chart;
 pub mod fit;
 pub mod inspect;
 pub mod jobs;
+pub mod memory_chart;
 pub mod plan;
 pub mod steps;
+pub mod steps_chart;
 mod table;
 
 pub use table::Table;

@@ -78,7 +78,7 @@ const SUBMIT: &str = r#"#!/bin/bash
 # Task I runs chunk I and writes partials/chunk-I-of-8.partial; it exits
 # with `sliceplan run`'s code, so the scheduler records a failed chunk as FAILED.
 # --mem: inputs 5.00 KiB + output 16 B + 1 x 1.00 MiB per-slice peak = 1.00 MiB, +10% +128 MiB for the program.
-# --time: 2 round(s) x 30.000 s per slice (model estimate) x 2 safety + 120 s start-up, rounded up to minutes.
+# --time: 2 round(s) x 30.000 s per slice (model estimate on test-node with 1 thread(s) per slice) x 2 safety + 120 s start-up, rounded up to minutes.
 set -u
 bin='/opt/sliceplan/bin/sliceplan'
 plan='<BASE>/in/grid.plan.toml'
@@ -201,7 +201,7 @@ basis = "inputs 5.00 KiB + output 16 B + 1 x 1.00 MiB per-slice peak = 1.00 MiB,
 
 [task.time]
 seconds = 240
-basis = "2 round(s) x 30.000 s per slice (model estimate) x 2 safety + 120 s start-up, rounded up to minutes"
+basis = "2 round(s) x 30.000 s per slice (model estimate on test-node with 1 thread(s) per slice) x 2 safety + 120 s start-up, rounded up to minutes"
 "#;
 
 #[test]

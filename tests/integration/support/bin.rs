@@ -5,9 +5,18 @@ use std::path::Path;
 use std::process::{Command, Output};
 
 /// The binary under test as a command, for tests that set its environment,
-/// feed its stdin or kill it.
+/// feed its stdin or kill it. It sees no machine profiles of the user's or
+/// this host's (a calibrated profile of this host would change what `jobs`
+/// and `fit` print); a test that wants some sets `SLICEPLAN_MACHINES`.
 pub fn binary() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_sliceplan"))
+    let mut command = Command::new(env!("CARGO_BIN_EXE_sliceplan"));
+    command
+        .env(
+            "XDG_CONFIG_HOME",
+            std::env::temp_dir().join("sliceplan-tests-without-profiles"),
+        )
+        .env_remove("SLICEPLAN_MACHINES");
+    command
 }
 
 /// Exit code (`None` when killed by a signal), stdout and stderr of a

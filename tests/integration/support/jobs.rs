@@ -118,6 +118,8 @@ pub fn grid_plan(
             nodes_used: 1,
             node_hours: s * (1u64 << k) as f64 / 3600.0,
             method: "fixed for the test".into(),
+            threads_per_slice: 1,
+            by_threads: Vec::new(),
         }),
         lower_bound_width: None,
     }
