@@ -87,7 +87,7 @@ pub struct PartitionParams {
     pub tries: usize,
     /// Seed of the partitioner.
     pub seed: i32,
-    /// Give up (see [`partition_tree_until`]) once this moment passes.
+    /// Give up (see `partition_tree_until`) once this moment passes.
     pub deadline: Option<std::time::Instant>,
 }
 
