@@ -20,7 +20,7 @@ pub mod formats;
 pub mod fuzzing;
 pub mod generate;
 pub mod host;
-pub mod io;
+pub(crate) mod io;
 pub mod jobs;
 pub mod lanes;
 pub mod network;

@@ -19,13 +19,13 @@
 //! are missing, [`write_resubmit`] writes the fourth, and [`Scheduler`]
 //! submits scripts (to Slurm, or to a deterministic stand-in in tests).
 
-pub mod array;
+pub(crate) mod array;
 pub mod directives;
 pub mod manifest;
-pub mod quote;
+pub(crate) mod quote;
 pub mod resources;
 pub mod scheduler;
-pub mod scripts;
+pub(crate) mod scripts;
 pub mod status;
 pub mod write;
 
