@@ -13,7 +13,7 @@ pub(super) const EXAMPLES: &str = "Examples:
   sliceplan calibrate                      # writes ~/.config/sliceplan/machines/<host>.toml
   sliceplan calibrate -o node-a            # writes ~/.config/sliceplan/machines/node-a.toml
   sliceplan calibrate -o profiles/node-a.toml --max-threads 16
-  sliceplan fit network.toml --machine node-a
+  sliceplan fit ising.toml --machine node-a
 
 Takes about 8 s per thread count measured (1, 2, 4, ... and all cores):
 about a minute on a 64-core node. Run it on an idle node (inside a job on

@@ -7,9 +7,10 @@
 //! What is read: lines `$ sliceplan ...` in fenced blocks and lines
 //! `    sliceplan ...` (indented, as README code) of README.md and
 //! docs/*.md, and the `Examples:` section of each command's `--help`.
-//! Lines with `--submit` or `--status`, and everything a page runs after
-//! `sbatch` (which needs a cluster), may also exit 1 ("not done yet");
-//! `sbatch` itself is not run.
+//! A trailing ` # ...` is a comment. Lines with `--submit` or `--status`,
+//! and everything a page runs after `sbatch` (which needs a cluster), may
+//! also exit 1 ("not done yet"); `sbatch` itself is not run. Profiles that
+//! `calibrate` writes go to the sandbox's own configuration directory.
 
 use std::path::{Path, PathBuf};
 
@@ -84,6 +85,8 @@ fn page_commands(text: &str) -> Vec<String> {
                 .filter(|l| l.starts_with("sliceplan ") || l.starts_with("scripts/"))
         };
         if let Some(c) = cmd {
+            // A trailing `# ...` is a comment, as in a shell.
+            let c = c.split(" # ").next().unwrap_or(c);
             out.push(c.trim().to_string());
         }
     }
@@ -106,9 +109,11 @@ fn run_page(name: &str, commands: &[String]) -> Vec<String> {
             // Scripts and other programs are run by their own tests.
             _ => continue,
         }
+        // Profiles that `calibrate` writes stay in the sandbox.
         let out = crate::support::bin::binary()
             .args(&w[1..])
             .current_dir(dir.path())
+            .env("XDG_CONFIG_HOME", dir.path().join("config"))
             .output()
             .unwrap();
         let code = out.status.code();
@@ -157,7 +162,16 @@ fn readme_and_docs_commands_run_as_written() {
 fn help_examples_run_as_written() {
     // In an order where each example finds what earlier ones wrote.
     let order = [
-        "generate", "import", "inspect", "plan", "fit", "report", "jobs", "run", "gather",
+        "generate",
+        "calibrate",
+        "import",
+        "inspect",
+        "plan",
+        "fit",
+        "report",
+        "jobs",
+        "run",
+        "gather",
     ];
     let mut commands = Vec::new();
     for cmd in order {
