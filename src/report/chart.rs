@@ -39,9 +39,7 @@ pub fn frontier_svg(
         let root = SVGBackend::with_string(&mut svg, (800, 480)).into_drawing_area();
         let e = |err: DrawingAreaErrorKind<_>| format!("cannot draw the chart: {err:?}");
         root.fill(&WHITE).map_err(e)?;
-        // The caption's font shrinks so a long network name still fits the
-        // 800-pixel width (about 0.55 em per character of sans-serif).
-        let size = (760.0 / (0.55 * title.chars().count().max(1) as f64)).clamp(9.0, 20.0);
+        let size = caption_size(title);
         let mut chart = ChartBuilder::on(&root)
             .caption(title, ("sans-serif", size))
             .margin(12)
@@ -122,4 +120,11 @@ pub fn frontier_svg(
         root.present().map_err(e)?;
     }
     Ok(svg)
+}
+
+/// The caption's font size: it shrinks so that a long network name still
+/// fits the 800-pixel width of every chart (about 0.55 em per character of
+/// sans-serif), between 9 and 20 pixels.
+pub(crate) fn caption_size(title: &str) -> f64 {
+    (760.0 / (0.55 * title.chars().count().max(1) as f64)).clamp(9.0, 20.0)
 }

@@ -125,7 +125,7 @@ impl MemoryProfile {
             let root = SVGBackend::with_string(&mut svg, (800, 480)).into_drawing_area();
             let e = |err: DrawingAreaErrorKind<_>| format!("cannot draw the chart: {err:?}");
             root.fill(&WHITE).map_err(e)?;
-            let size = (760.0 / (0.55 * title.chars().count().max(1) as f64)).clamp(9.0, 20.0);
+            let size = super::chart::caption_size(title);
             let mut chart = ChartBuilder::on(&root)
                 .caption(title, ("sans-serif", size))
                 .margin(12)
