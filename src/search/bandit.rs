@@ -7,7 +7,8 @@
 //! Each arm is a finder with a range for its random parameters (greedy
 //! cold or hot, partitioning into small or large leaves, min-fill or
 //! min-degree with tie-breaking only or with noise, nested dissection with
-//! one or several separators per level). A trial's reward is 1 when it
+//! one or several separators per level, local search on elimination
+//! orders). A trial's reward is 1 when it
 //! beats the best tree known when its round began, and 2^-(gap) / 2
 //! otherwise, where gap is how far its objective value (log2 units) lies
 //! above the best. [`Bandit::choose`] picks the arms of a round of trials
@@ -48,6 +49,9 @@ pub enum Arm {
     Dissection,
     /// Nested dissection, several separators per level.
     DissectionWide,
+    /// Local search on the elimination order of the best tree so far (or
+    /// of a fresh min-fill order).
+    OrderSearch,
 }
 
 impl Arm {
@@ -59,6 +63,7 @@ impl Arm {
             Arm::MinFillTies | Arm::MinFillNoisy => "min-fill",
             Arm::MinDegreeTies | Arm::MinDegreeNoisy => "min-degree",
             Arm::Dissection | Arm::DissectionWide => "dissection",
+            Arm::OrderSearch => "order-search",
         }
     }
 }

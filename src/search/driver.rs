@@ -13,8 +13,8 @@
 //!    most 12 tensors and the objective is one the exact finder optimises,
 //!    the search ends there); then the file order and a breadth-first
 //!    sweep (linear time, so a valid tree exists within milliseconds even
-//!    at 10^6 tensors); then, in parallel and cut off at the end of the
-//!    trial time, a plain greedy tree, min-fill, min-degree and a nested
+//!    at 10^6 tensors); then, in parallel and cut off at 40% of the time
+//!    budget, a plain greedy tree, min-fill, min-degree and a nested
 //!    dissection (with the lower bounds computed alongside). The answer is
 //!    never worse than any of these that finished, for the objective.
 //! 3. **Trials**, in rounds of 8: each draws an arm of a [`Bandit`] over
@@ -78,7 +78,7 @@ use super::baseline::sweep_order;
 use super::bound::{lower_bounds, WidthBound};
 use super::dissect::{dissection_tree, DissectParams};
 use super::exact::{exact_tree, ALL_SUBSETS_MAX};
-use super::greedy::{greedy_tree, GreedyParams};
+use super::greedy::{greedy_tree_until, GreedyParams};
 use super::objective::{Key, Measures};
 use super::options::{CandidateScore, PhaseTimes, Progress, SearchOptions, SearchResult};
 use super::order::{elimination_tree, OrderParams, OrderRule};
@@ -86,7 +86,7 @@ use super::price::tree_metrics;
 use super::problem::left_deep;
 use super::refine::{refine_tree, RefineParams};
 use super::simplify::Simplified;
-use super::trial::{arms, polish, run_arm};
+use super::trial::{arms, polish, run_arm, Effort};
 use crate::error::{Error, Result};
 use crate::network::{IndexId, Network};
 use crate::num::log2_add;
@@ -108,6 +108,10 @@ const REFINE_MAX_ENTRIES: u64 = 30_000_000;
 /// Estimated seconds of final pricing per index entry of the best tree
 /// (merging counted lists and taking products), with a margin.
 const PRICING_SECONDS_PER_ENTRY: f64 = 20e-9;
+
+/// Share of a time budget after which the candidates still running are
+/// dropped.
+const CANDIDATE_SHARE: f64 = 0.4;
 
 /// Share of a time budget kept for the final refinement.
 const REFINE_SHARE: f64 = 0.15;
@@ -234,26 +238,29 @@ pub fn find_tree_with(
     let mut next_trial = 0u64;
     let mut refined_key: Option<Key> = None;
     if !exact_done {
-        for _round in 0..8 {
+        let mut first = true;
+        loop {
             let reserve = ctx.pricing_reserve();
             let refine_end = end.map(|e| e.checked_sub(reserve).unwrap_or(start));
-            let refine_len = opts.time.map_or(Duration::ZERO, |t| {
-                if opts.finders.refine {
-                    t.mul_f64(REFINE_SHARE)
-                } else {
-                    Duration::ZERO
-                }
-            });
+            // The first trials leave 15% of the budget to refinement; later
+            // ones (when refinement ended early) leave 5%.
+            let refine_len =
+                opts.time
+                    .map_or(Duration::ZERO, |t| match (opts.finders.refine, first) {
+                        (false, _) => Duration::ZERO,
+                        (true, true) => t.mul_f64(REFINE_SHARE),
+                        (true, false) => t / 20,
+                    });
             let trial_end = refine_end.map(|e| e.checked_sub(refine_len).unwrap_or(start));
             let began = Instant::now();
+            let before = next_trial;
             if has_arms {
                 next_trial =
                     pool.install(|| ctx.trials(&mut bandit, next_trial, trial_end, refine_end));
             }
             phases.trials += began.elapsed().as_secs_f64();
             let began = Instant::now();
-            let stopped = stop.load(Ordering::SeqCst);
-            if opts.finders.refine && !stopped {
+            if opts.finders.refine && !stop.load(Ordering::SeqCst) {
                 match refine_end {
                     None => ctx.final_refine(),
                     Some(deadline) => {
@@ -270,12 +277,14 @@ pub fn find_tree_with(
             let again = match (end, opts.time) {
                 (Some(e), Some(t)) => {
                     has_arms
+                        && (first || next_trial > before)
                         && e.saturating_duration_since(Instant::now())
                             > t / 20 + ctx.pricing_reserve()
                         && opts.trials.is_none_or(|n| next_trial < n)
                 }
                 _ => false,
             };
+            first = false;
             if !again || stop.load(Ordering::SeqCst) {
                 break;
             }
@@ -465,11 +474,12 @@ impl Ctx<'_> {
             self.offer(sweep);
         }
         seq += 1;
-        // The parallel batch, cut at the end of the trial time (or at half
-        // the budget for finders that cannot stop themselves).
+        // The parallel batch, cut at 40% of the budget (a finder that is
+        // cut is dropped; nested dissection, which cannot be stopped, only
+        // starts with half the budget left).
         let deadline = end.map(|e| {
             let t = e.saturating_duration_since(self.start);
-            self.start + t.mul_f64(1.0 - REFINE_SHARE)
+            self.start + t.mul_f64(CANDIDATE_SHARE)
         });
         let batch = [
             Batch::Bounds,
@@ -493,7 +503,9 @@ impl Ctx<'_> {
                     ChaCha8Rng::seed_from_u64(trial_seed(self.opts.seed, u64::MAX - i as u64));
                 let merges = match b {
                     Batch::Bounds => return (Some(lower_bounds(self.net)), None),
-                    Batch::Greedy => Some(greedy_tree(p, &GreedyParams::default(), &mut rng)),
+                    Batch::Greedy => {
+                        greedy_tree_until(p, &GreedyParams::default(), &mut rng, deadline)
+                    }
                     Batch::MinFill => elimination_tree(
                         p,
                         &OrderParams::plain(OrderRule::MinFill),
@@ -597,6 +609,9 @@ impl Ctx<'_> {
             let round = (ROUND as u64).min(budget_left);
             let chosen = bandit.choose(round as usize);
             let before = self.best_key();
+            // The best tree at the round's start, where order searches begin.
+            let seed_tree: Option<(usize, Vec<[usize; 2]>)> =
+                self.lock().best().map(|b| (b.problem, b.merges.clone()));
             let results: Vec<Option<(Arm, Found)>> = (0..round)
                 .into_par_iter()
                 .map(|j| {
@@ -613,13 +628,27 @@ impl Ctx<'_> {
                         return None;
                     }
                     let mut rng = ChaCha8Rng::seed_from_u64(trial_seed(self.opts.seed, i));
-                    let k = if self.problems.len() > 1 && rng.random_bool(0.5) {
+                    let mut k = if self.problems.len() > 1 && rng.random_bool(0.5) {
                         1
                     } else {
                         0
                     };
+                    let mut start = None;
+                    if arm == Arm::OrderSearch {
+                        if let Some((sk, tree)) = &seed_tree {
+                            k = *sk;
+                            start = Some(tree.as_slice());
+                        }
+                    }
+                    let effort = match self.opts.time {
+                        Some(t) => Effort::Until(
+                            now + (t / 50).clamp(Duration::from_millis(20), Duration::from_secs(2)),
+                        ),
+                        None => Effort::Moves(30),
+                    };
                     let p = &self.problems[k].problem;
-                    let (merges, mut name) = run_arm(p, arm, goal, &mut rng, hard_end)?;
+                    let (merges, mut name) =
+                        run_arm(p, arm, goal, &mut rng, hard_end, start, effort)?;
                     let merges = if self.opts.finders.refine {
                         polish(p, merges, &mut name, goal, &mut rng, hard_end)
                     } else {

@@ -36,6 +36,7 @@ mod dissect;
 mod driver;
 mod exact;
 mod greedy;
+mod improve;
 mod objective;
 mod options;
 mod order;
@@ -57,7 +58,8 @@ pub use buckets::{order_tree, quotient_tree};
 pub use dissect::{dissection_order, dissection_tree, DissectParams};
 pub use driver::{find_tree, find_tree_sliced, find_tree_with, EXACT_AUTO};
 pub use exact::{exact_tree, ExactGoal, ALL_SUBSETS_MAX, CLASSES_MAX, EXACT_MAX};
-pub use greedy::{greedy_tree, GreedyParams};
+pub use greedy::{greedy_tree, greedy_tree_until, GreedyParams};
+pub use improve::{improve_order, order_of_tree};
 pub use objective::{Key, Measures, Objective};
 pub use options::{
     CandidateScore, Finders, PhaseTimes, Progress, SearchOptions, SearchResult, MAX_THREADS,

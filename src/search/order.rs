@@ -124,6 +124,7 @@ pub struct Order {
 }
 
 /// The index graph as bit rows, with weighted degree and fill per vertex.
+#[derive(Clone)]
 pub(super) struct Dense {
     pub(super) words: usize,
     pub(super) rows: Vec<u64>,
@@ -171,7 +172,7 @@ impl Dense {
         Some(g)
     }
 
-    fn row(&self, u: usize) -> &[u64] {
+    pub(super) fn row(&self, u: usize) -> &[u64] {
         &self.rows[u * self.words..(u + 1) * self.words]
     }
 

@@ -16,10 +16,12 @@ use rand::Rng;
 
 use super::anneal::{anneal_tree, AnnealParams};
 use super::bandit::Arm;
+use super::buckets::order_tree;
 use super::dissect::{dissection_tree, DissectParams};
 use super::exact::ExactGoal;
-use super::greedy::{greedy_tree, GreedyParams};
-use super::order::{elimination_tree, OrderParams, OrderRule};
+use super::greedy::{greedy_tree_until, GreedyParams};
+use super::improve::{improve_order, order_of_tree};
+use super::order::{elimination_order, elimination_tree, OrderParams, OrderRule, DENSE_MAX};
 use super::partition::{partition_tree_until, PartitionParams};
 use super::problem::Problem;
 use super::refine::{refine_tree, RefineParams};
@@ -33,6 +35,9 @@ pub(super) fn arms(p: &Problem, greedy: bool, partition: bool, orders: bool) -> 
             out.extend([Arm::Dissection, Arm::DissectionWide]);
         }
         out.extend([Arm::MinFillNoisy, Arm::MinDegreeNoisy]);
+        if p.weight.len() <= DENSE_MAX {
+            out.push(Arm::OrderSearch);
+        }
     }
     if greedy {
         out.extend([Arm::GreedyCold, Arm::GreedyHot]);
@@ -43,22 +48,53 @@ pub(super) fn arms(p: &Problem, greedy: bool, partition: bool, orders: bool) -> 
     out
 }
 
+/// How long a local search on orders may run.
+#[derive(Debug, Clone, Copy)]
+pub(super) enum Effort {
+    /// Until this moment.
+    Until(Instant),
+    /// This many moves per index (searches without a time budget).
+    Moves(usize),
+}
+
 /// Runs the finder of `arm` on `p`; `None` when it declined or the deadline
-/// passed. Returns the merges and the finder's name.
+/// passed. `start` is a tree over `p` a local search may start from.
+/// Returns the merges and the finder's name.
 pub(super) fn run_arm<R: Rng>(
     p: &Problem,
     arm: Arm,
     goal: ExactGoal,
     rng: &mut R,
     deadline: Option<Instant>,
+    start: Option<&[[usize; 2]]>,
+    effort: Effort,
 ) -> Option<(Vec<[usize; 2]>, String)> {
     let merges = match arm {
+        Arm::OrderSearch => {
+            let order = match start {
+                Some(tree) if rng.random_bool(0.7) => order_of_tree(p, tree),
+                _ => {
+                    let params = OrderParams {
+                        rule: OrderRule::MinFill,
+                        random_ties: true,
+                        noise: 0.0,
+                    };
+                    elimination_order(p, &params, rng, deadline)?.order
+                }
+            };
+            let (steps, until) = match effort {
+                Effort::Until(t) => (usize::MAX, Some(deadline.map_or(t, |d| d.min(t)))),
+                Effort::Moves(k) => (k.saturating_mul(order.len().max(1)), deadline),
+            };
+            let better = improve_order(p, &order, goal, steps, until, rng)?;
+            order_tree(p, &better.order)
+        }
         Arm::GreedyCold | Arm::GreedyHot => {
             let mut params = GreedyParams::sample(rng);
             if arm == Arm::GreedyCold {
                 params.temperature = rng.random_range(0.0..0.05);
             }
-            greedy_tree(p, &params, rng)
+            greedy_tree_until(p, &params, rng, deadline)?
         }
         Arm::PartitionSmall | Arm::PartitionLarge => {
             let mut params = PartitionParams {
