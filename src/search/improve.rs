@@ -170,13 +170,10 @@ fn minor_min_width(g: &Dense, present: &[bool]) -> f64 {
     let mut f: Vec<f64> = (0..m)
         .map(|v| if alive[v] { clique(&g, v) } else { 0.0 })
         .collect();
-    loop {
-        let Some(v) = (0..m)
-            .filter(|&v| alive[v])
-            .min_by(|&a, &b| f[a].total_cmp(&f[b]))
-        else {
-            break;
-        };
+    while let Some(v) = (0..m)
+        .filter(|&v| alive[v])
+        .min_by(|&a, &b| f[a].total_cmp(&f[b]))
+    {
         best = best.max(f[v]);
         alive[v] = false;
         let nb = g.neighbours(v);
