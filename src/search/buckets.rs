@@ -336,7 +336,7 @@ pub fn quotient_tree<R: Rng>(
             continue;
         }
         popped += 1;
-        if popped % 1024 == 0 && deadline.is_some_and(|d| Instant::now() >= d) {
+        if popped % 16 == 0 && deadline.is_some_and(|d| Instant::now() >= d) {
             return None;
         }
         let Some(mut pn) = b.eliminate(u) else {

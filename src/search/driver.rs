@@ -103,7 +103,7 @@ const KEEP: usize = 3;
 
 /// Trees whose nodes hold more index entries than this are not refined
 /// (refinement keeps every node's list: about 12 bytes per entry).
-const REFINE_MAX_ENTRIES: u64 = 30_000_000;
+const REFINE_MAX_ENTRIES: u64 = 200_000_000;
 
 /// Estimated seconds of final pricing per index entry of the best tree
 /// (merging counted lists and taking products), with a margin.
@@ -126,7 +126,11 @@ struct Found {
     problem: usize,
     merges: Vec<[usize; 2]>,
     measures: Measures,
+    /// Index entries of all its nodes (what refinement would hold).
     entries: u64,
+    /// Index entries its final pricing walks: `entries`, or the network's
+    /// for a left-deep tree (priced by a running set).
+    price_entries: u64,
     finder: String,
     at: Duration,
 }
@@ -217,6 +221,8 @@ pub fn find_tree_with(
         stop,
         trials_done: AtomicU64::new(0),
         found: Mutex::new(Pool::default()),
+        expected: Mutex::new(Vec::new()),
+        candidate_times: Mutex::new(Vec::new()),
     };
 
     // Candidates.
@@ -327,6 +333,11 @@ struct Ctx<'a> {
     stop: &'a AtomicBool,
     trials_done: AtomicU64,
     found: Mutex<Pool>,
+    /// The longest trial seen per arm.
+    expected: Mutex<Vec<(Arm, Duration)>>,
+    /// How long each candidate took (or ran before it was cut), by finder
+    /// name.
+    candidate_times: Mutex<Vec<(String, Duration)>>,
 }
 
 /// What one task of the parallel batch gives: the lower bounds, or a tree
@@ -348,6 +359,20 @@ impl Ctx<'_> {
         self.opts.objective.solved_by_exact() && self.problems[0].problem.len() <= ALL_SUBSETS_MAX
     }
 
+    /// How long the candidate `name` took, or ran before it was cut; for an
+    /// unknown name, the slowest candidate.
+    fn candidate_time(&self, name: &str) -> Duration {
+        let times = self
+            .candidate_times
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
+        times
+            .iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, d)| *d)
+            .unwrap_or_else(|| times.iter().map(|(_, d)| *d).max().unwrap_or_default())
+    }
+
     fn best_key(&self) -> Option<Key> {
         self.lock().best().map(|b| b.key)
     }
@@ -358,7 +383,7 @@ impl Ctx<'_> {
 
     /// Seconds the final pricing of the best tree will take, estimated.
     fn pricing_reserve(&self) -> Duration {
-        let entries = self.lock().best().map_or(0, |b| b.entries);
+        let entries = self.lock().best().map_or(0, |b| b.price_entries);
         Duration::from_secs_f64(
             (entries as f64 * PRICING_SECONDS_PER_ENTRY
                 + self.net.num_tensors() as f64 * 200e-9
@@ -392,6 +417,7 @@ impl Ctx<'_> {
             merges,
             measures,
             entries,
+            price_entries: entries,
             finder,
             at: self.start.elapsed(),
         }
@@ -481,68 +507,100 @@ impl Ctx<'_> {
             let t = e.saturating_duration_since(self.start);
             self.start + t.mul_f64(CANDIDATE_SHARE)
         });
+        // Highest priority first: on 10^5 tensors each takes seconds, and
+        // dissection (strongest on large sparse networks) cannot be cut.
         let batch = [
-            Batch::Bounds,
+            Batch::Dissection,
+            Batch::Greedy,
             Batch::MinFill,
             Batch::MinDegree,
-            Batch::Greedy,
-            Batch::Dissection,
+            Batch::Bounds,
         ];
-        let results: Vec<BatchResult> = batch
-            .par_iter()
-            .enumerate()
-            .map(|(i, &b)| {
-                if self.stop.load(Ordering::SeqCst) && !matches!(b, Batch::Bounds) {
-                    return (None, None);
-                }
-                if deadline.is_some_and(|d| Instant::now() >= d) && !matches!(b, Batch::Bounds) {
-                    return (None, None);
-                }
-                let began = Instant::now();
-                let mut rng =
-                    ChaCha8Rng::seed_from_u64(trial_seed(self.opts.seed, u64::MAX - i as u64));
-                let merges = match b {
-                    Batch::Bounds => return (Some(lower_bounds(self.net)), None),
-                    Batch::Greedy => {
-                        greedy_tree_until(p, &GreedyParams::default(), &mut rng, deadline)
+        let run = |i: usize, b: Batch| -> BatchResult {
+            if self.stop.load(Ordering::SeqCst) && !matches!(b, Batch::Bounds) {
+                return (None, None);
+            }
+            if deadline.is_some_and(|d| Instant::now() >= d) && !matches!(b, Batch::Bounds) {
+                return (None, None);
+            }
+            let began = Instant::now();
+            let mut rng =
+                ChaCha8Rng::seed_from_u64(trial_seed(self.opts.seed, u64::MAX - i as u64));
+            let merges = match b {
+                Batch::Bounds => return (Some(lower_bounds(self.net)), None),
+                Batch::Greedy => greedy_tree_until(p, &GreedyParams::default(), &mut rng, deadline),
+                Batch::MinFill => elimination_tree(
+                    p,
+                    &OrderParams::plain(OrderRule::MinFill),
+                    &mut rng,
+                    deadline,
+                ),
+                Batch::MinDegree => elimination_tree(
+                    p,
+                    &OrderParams::plain(OrderRule::MinDegree),
+                    &mut rng,
+                    deadline,
+                ),
+                Batch::Dissection => {
+                    // METIS cannot be stopped: only when at least half
+                    // the budget is left.
+                    let late = end.is_some_and(|e| {
+                        let left = e.saturating_duration_since(Instant::now());
+                        left < e.saturating_duration_since(self.start) / 2
+                    });
+                    if late || p.weight.len() < 16 {
+                        None
+                    } else {
+                        dissection_tree(p, &DissectParams::default())
                     }
-                    Batch::MinFill => elimination_tree(
-                        p,
-                        &OrderParams::plain(OrderRule::MinFill),
-                        &mut rng,
-                        deadline,
-                    ),
-                    Batch::MinDegree => elimination_tree(
-                        p,
-                        &OrderParams::plain(OrderRule::MinDegree),
-                        &mut rng,
-                        deadline,
-                    ),
-                    Batch::Dissection => {
-                        // METIS cannot be stopped: only when at least half
-                        // the budget is left.
-                        let late = end.is_some_and(|e| {
-                            let left = e.saturating_duration_since(Instant::now());
-                            left < e.saturating_duration_since(self.start) / 2
-                        });
-                        if late || p.weight.len() < 16 {
-                            None
-                        } else {
-                            dissection_tree(p, &DissectParams::default())
-                        }
+                }
+            };
+            let name = match b {
+                Batch::Greedy => "greedy",
+                Batch::MinFill => "min-fill",
+                Batch::MinDegree => "min-degree",
+                Batch::Dissection => "dissection",
+                Batch::Bounds => unreachable!("returned above"),
+            };
+            let f = merges.map(|m| self.found(seq + i as u64, 0, m, name.into()));
+            (None, f.map(|f| (f, began.elapsed())))
+        };
+        let collected: Mutex<Vec<(usize, BatchResult)>> = Mutex::new(Vec::new());
+        rayon::scope_fifo(|s| {
+            for (i, &b) in batch.iter().enumerate() {
+                let (run, collected) = (&run, &collected);
+                s.spawn_fifo(move |_| {
+                    let began = Instant::now();
+                    let r = run(i, b);
+                    let name = match b {
+                        Batch::Greedy => "greedy",
+                        Batch::MinFill => "min-fill",
+                        Batch::MinDegree => "min-degree",
+                        Batch::Dissection => "dissection",
+                        Batch::Bounds => "bounds",
+                    };
+                    // A candidate skipped at once says nothing of its cost;
+                    // one cut by the deadline needed more than it had.
+                    let mut took = began.elapsed();
+                    if r.1.is_none() && !matches!(b, Batch::Bounds) {
+                        took *= 3;
                     }
-                };
-                let name = match b {
-                    Batch::Greedy => "greedy",
-                    Batch::MinFill => "min-fill",
-                    Batch::MinDegree => "min-degree",
-                    Batch::Dissection => "dissection",
-                    Batch::Bounds => unreachable!("returned above"),
-                };
-                let f = merges.map(|m| self.found(seq + i as u64, 0, m, name.into()));
-                (None, f.map(|f| (f, began.elapsed())))
-            })
-            .collect();
+                    if r.1.is_some() || took > Duration::from_millis(3) {
+                        self.candidate_times
+                            .lock()
+                            .unwrap_or_else(|e| e.into_inner())
+                            .push((name.to_string(), took));
+                    }
+                    collected
+                        .lock()
+                        .unwrap_or_else(|e| e.into_inner())
+                        .push((i, r));
+                });
+            }
+        });
+        let mut results = collected.into_inner().unwrap_or_else(|e| e.into_inner());
+        results.sort_by_key(|r| r.0);
+        let results: Vec<BatchResult> = results.into_iter().map(|r| r.1).collect();
         let mut bounds = None;
         for (b, f) in results {
             if b.is_some() {
@@ -577,6 +635,7 @@ impl Ctx<'_> {
             merges,
             measures,
             entries,
+            price_entries: s.problem.tensors.iter().map(|t| t.len() as u64).sum(),
             finder: name.into(),
             at: self.start.elapsed(),
         }
@@ -594,7 +653,26 @@ impl Ctx<'_> {
         let goal = self.opts.objective.exact_goal();
         let base = 1_000u64;
         let mut next = first;
-        let slowest = AtomicU64::new(0);
+        // Expected duration per arm: the longest trial of that arm so far,
+        // or before any, the candidate of the same finder (the slowest
+        // candidate for partitioning, which bisects like dissection).
+        // With a margin of half again: trials run beside each other.
+        let expect = |arm: Arm| -> Duration {
+            let e = self.expected.lock().unwrap_or_else(|e| e.into_inner());
+            let d = e
+                .iter()
+                .find(|(a, _)| *a == arm)
+                .map(|(_, d)| *d)
+                .unwrap_or_else(|| {
+                    let name = match arm {
+                        Arm::PartitionSmall | Arm::PartitionLarge => "",
+                        Arm::OrderSearch => "min-fill",
+                        other => other.name(),
+                    };
+                    self.candidate_time(name)
+                });
+            d.mul_f64(1.5)
+        };
         loop {
             let budget_left = self
                 .opts
@@ -619,7 +697,7 @@ impl Ctx<'_> {
                     let arm = chosen[j as usize];
                     // A trial that would likely end past the budget is not
                     // started (on 10^6 tensors one takes tens of seconds).
-                    let guess = Duration::from_millis(slowest.load(Ordering::SeqCst));
+                    let guess = expect(arm);
                     let now = Instant::now();
                     if self.stop.load(Ordering::SeqCst)
                         || trial_end.is_some_and(|d| now >= d)
@@ -646,17 +724,28 @@ impl Ctx<'_> {
                         ),
                         None => Effort::Moves(30),
                     };
+                    // A trial that runs three times longer than expected is
+                    // cut, so that one slow trial cannot eat the refinement.
+                    let cut = match (hard_end, guess.is_zero()) {
+                        (Some(h), false) => Some(h.min(now + guess * 2)),
+                        (h, _) => h,
+                    };
                     let p = &self.problems[k].problem;
-                    let (merges, mut name) =
-                        run_arm(p, arm, goal, &mut rng, hard_end, start, effort)?;
+                    let (merges, mut name) = run_arm(p, arm, goal, &mut rng, cut, start, effort)?;
                     let merges = if self.opts.finders.refine {
-                        polish(p, merges, &mut name, goal, &mut rng, hard_end)
+                        polish(p, merges, &mut name, goal, &mut rng, cut)
                     } else {
                         merges
                     };
                     let f = self.found(base + i, k, merges, name);
-                    let took = now.elapsed().as_millis().min(u64::MAX as u128) as u64;
-                    slowest.fetch_max(took, Ordering::SeqCst);
+                    let took = now.elapsed();
+                    {
+                        let mut e = self.expected.lock().unwrap_or_else(|e| e.into_inner());
+                        match e.iter_mut().find(|(a, _)| *a == arm) {
+                            Some((_, d)) => *d = (*d).max(took),
+                            None => e.push((arm, took)),
+                        }
+                    }
                     self.trials_done.fetch_add(1, Ordering::SeqCst);
                     self.offer(f.clone());
                     Some((arm, f))
@@ -698,9 +787,18 @@ impl Ctx<'_> {
             let small = p.len() <= 64;
             let mut k = if small { 6 } else { 5 };
             let mut quiet = 0;
-            while Instant::now() < deadline && k <= if small { 10 } else { 9 } {
+            // Each pass first builds every node's list and ends by pricing
+            // the tree: about 60 ns per index entry, stopped or not.
+            let setup = Duration::from_secs_f64(f.entries as f64 * 60e-9);
+            let Some(deadline) = deadline.checked_sub(setup) else {
+                continue;
+            };
+            while Instant::now() + setup < deadline && k <= if small { 10 } else { 9 } {
                 let mut changed_any = false;
                 for random in [false, true] {
+                    if Instant::now() + setup >= deadline {
+                        break;
+                    }
                     seed = seed.wrapping_add(1);
                     let params = RefineParams {
                         k,
@@ -719,6 +817,7 @@ impl Ctx<'_> {
                         f.merges = merges;
                         f.measures = measures;
                         f.entries = entries;
+                        f.price_entries = entries;
                         f.at = self.start.elapsed();
                         if !f.finder.ends_with("+refine") {
                             f.finder.push_str("+refine");
@@ -773,6 +872,7 @@ impl Ctx<'_> {
             best.merges = merges;
             best.measures = measures;
             best.entries = entries;
+            best.price_entries = entries;
             best.finder.push_str("+final-refine");
             self.lock().insert(best);
         }

@@ -313,7 +313,7 @@ pub fn elimination_order<R: Rng>(
         if done[v] || ver != version[v] {
             continue;
         }
-        if out.order.len() % 64 == 63 && deadline.is_some_and(|d| Instant::now() >= d) {
+        if out.order.len() % 16 == 15 && deadline.is_some_and(|d| Instant::now() >= d) {
             return None;
         }
         done[v] = true;

@@ -12,6 +12,10 @@
 //! Here the operands' lists are dropped once merged, so memory is the
 //! lists alive at once plus a few numbers per node.
 //!
+//! A left-deep tree (each merge joins the previous result with a tensor, as
+//! the file order and the sweep do) is priced in O(index entries of the
+//! network) by keeping the running result as a set.
+//!
 //! # Complexity
 //!
 //! Time O(sum over merges of both operands' list lengths) plus the
@@ -42,6 +46,9 @@ pub fn tree_metrics(net: &Network, tree: &Tree) -> Metrics {
         tree.leaves(),
         "tree and network disagree on the tensor count"
     );
+    if is_left_deep(tree) {
+        return left_deep_metrics(net, tree);
+    }
     let n = tree.leaves();
     let dims = net.dims();
     let log2 = net.log2_dims();
@@ -105,6 +112,168 @@ pub fn tree_metrics(net: &Network, tree: &Tree) -> Metrics {
         peak,
         order,
         height: heights[root],
+    }
+}
+
+/// True when every merge after the first joins the previous merge with a
+/// tensor (a left-deep tree in any leaf order).
+fn is_left_deep(tree: &Tree) -> bool {
+    let n = tree.leaves();
+    tree.merges().iter().enumerate().all(|(k, &[a, b])| {
+        if k == 0 {
+            a < n && b < n
+        } else {
+            let prev = n + k - 1;
+            (a == prev && b < n) || (b == prev && a < n)
+        }
+    })
+}
+
+/// The indices of a running result: those of dimension 2 or more in a list
+/// with positions (for O(1) removal), every one flagged.
+struct Running<'a> {
+    dims: &'a [u64],
+    log2: &'a [f64],
+    live: Vec<usize>,
+    pos: Vec<usize>,
+    inside: Vec<bool>,
+    size_log2: f64,
+}
+
+impl Running<'_> {
+    fn add(&mut self, e: usize) {
+        if !self.inside[e] {
+            self.inside[e] = true;
+            if self.dims[e] > 1 {
+                self.pos[e] = self.live.len();
+                self.live.push(e);
+                self.size_log2 += self.log2[e];
+            }
+        }
+    }
+
+    fn remove(&mut self, e: usize) {
+        if !self.inside[e] {
+            return;
+        }
+        self.inside[e] = false;
+        if self.dims[e] > 1 {
+            let p = self.pos[e];
+            self.live.swap_remove(p);
+            if p < self.live.len() {
+                self.pos[self.live[p]] = p;
+            }
+            self.pos[e] = usize::MAX;
+            self.size_log2 -= self.log2[e];
+        }
+        if self.live.is_empty() {
+            self.size_log2 = 0.0;
+        }
+    }
+
+    /// The size of the set with `extra` added (indices not in it), exact
+    /// while it fits a u128.
+    fn size_with(&self, extra: &[usize]) -> Count {
+        let log2 = self.size_log2 + extra.iter().map(|&e| self.log2[e]).sum::<f64>();
+        let exact = if log2 > 127.5 {
+            None
+        } else {
+            product(self.live.iter().chain(extra).map(|&e| self.dims[e]))
+        };
+        Count { exact, log2 }
+    }
+}
+
+/// [`tree_metrics`] of a left-deep tree in O(index entries of the network):
+/// the running result is a set of indices with its log2 size kept by
+/// additions and removals; its exact size is recomputed only while it fits
+/// a u128 (then the set has at most 127 indices of dimension 2 or more).
+/// The traversal of a chain is forced.
+fn left_deep_metrics(net: &Network, tree: &Tree) -> Metrics {
+    let n = tree.leaves();
+    let dims = net.dims();
+    let log2 = net.log2_dims();
+    let open = net.open_mask();
+    let mut remaining = vec![0u32; net.num_indices()];
+    for t in &net.tensors {
+        for &e in &t.indices {
+            remaining[e] += 1;
+        }
+    }
+    let mut sizes: Vec<Count> = (0..n)
+        .map(|t| Count {
+            exact: net.tensor_size(t),
+            log2: net.tensor_size_log2(t),
+        })
+        .collect();
+    let mut run = Running {
+        dims: &dims,
+        log2: &log2,
+        live: Vec::new(),
+        pos: vec![usize::MAX; net.num_indices()],
+        inside: vec![false; net.num_indices()],
+        size_log2: 0.0,
+    };
+    let mut total_ops = Count::ZERO;
+    let mut op_width = 0.0f64;
+    let merges = tree.merges();
+    let mut leaf_order: Vec<usize> = Vec::with_capacity(n);
+    if let Some(&[a, b]) = merges.first() {
+        leaf_order.extend([a, b]);
+    }
+    for &[a, b] in merges.iter().skip(1) {
+        leaf_order.push(if a < n { a } else { b });
+    }
+    let first = leaf_order.first().copied().unwrap_or(0);
+    for &e in &net.tensors[first].indices {
+        remaining[e] -= 1;
+        run.add(e);
+    }
+    let mut first_list: &[usize] = &net.tensors[first].indices;
+    for &t in leaf_order.iter().skip(1) {
+        let list = &net.tensors[t].indices;
+        // Ops: the running result with the tensor's new indices.
+        let fresh: Vec<usize> = list
+            .iter()
+            .copied()
+            .filter(|&e| !run.inside[e] && dims[e] > 1)
+            .collect();
+        let ops = run.size_with(&fresh);
+        op_width = op_width.max(ops.log2);
+        total_ops = total_ops + ops;
+        for &e in list {
+            remaining[e] -= 1;
+            run.add(e);
+        }
+        // An index leaves once no unmerged tensor holds it (and it is not
+        // open): this tensor's, and at the first merge the first tensor's.
+        for &e in list.iter().chain(first_list) {
+            if remaining[e] == 0 && !open[e] {
+                run.remove(e);
+            }
+        }
+        first_list = &[];
+        sizes.push(run.size_with(&[]));
+    }
+    let root = sizes.len() - 1;
+    let width = sizes
+        .iter()
+        .map(|s| s.log2)
+        .fold(f64::NEG_INFINITY, f64::max);
+    let width_without_root = sizes[..root]
+        .iter()
+        .map(|s| s.log2)
+        .fold(f64::NEG_INFINITY, f64::max);
+    let order: Vec<usize> = (0..merges.len()).collect();
+    let peak = live_peak(tree, &sizes, &order);
+    Metrics {
+        total_ops,
+        width,
+        width_without_root: if root == 0 { width } else { width_without_root },
+        op_width,
+        peak,
+        order,
+        height: merges.len(),
     }
 }
 
