@@ -6,7 +6,8 @@
 //! regular, brickwork, random12, scale10k, scale100k, rate500, lattices
 //! (L = 100, 316, 1000 with 10 s, 60 s, 120 s), circuits (brickwork and
 //! random circuits of 50 to 100 qubits, depth 20), regular100k (3-regular,
-//! 10^5 vertices, 10 s), or `all` (the first eight).
+//! 10^5 vertices, 10 s), refine100k (subtree reconfiguration passes on
+//! trees of 10^5 tensors), or `all` (the first eight).
 //!
 //! Every search is the library's `find_tree` with `SearchOptions`, as users
 //! run it; the references are the library's `file_order_tree` and
@@ -54,6 +55,7 @@ fn main() {
     extra("circuits", &circuits);
     extra("regular100k", &regular100k);
     extra("finders", &finders_timing);
+    extra("refine100k", &refine100k);
     if !known {
         eprintln!("unknown family '{family}'; see the file's doc comment");
         std::process::exit(2);
@@ -543,6 +545,65 @@ fn regular100k() {
             .collect::<Vec<_>>()
             .join(", "),
         rss()
+    );
+}
+
+/// Linear passes of subtree reconfiguration (`refine_tree`, one pass per
+/// row, window size k growing) on greedy trees of 10^5 tensors: the total
+/// ops after each pass and its time.
+fn refine100k() {
+    use sliceplan::search::{greedy_tree, refine_tree, GreedyParams, RefineParams};
+    let nets = [
+        lattice(&[316, 316], 2, false).expect("lattice"),
+        graph_network(
+            100_000,
+            &random_regular_graph(100_000, 3, 11).expect("graph"),
+            2,
+        )
+        .expect("network"),
+    ];
+    let mut t = Table::new(["network", "pass", "k", "total ops log2", "width", "s"]);
+    for net in &nets {
+        let p = Simplified::new(net, false).problem;
+        let mut rng = ChaCha8Rng::seed_from_u64(1);
+        let params = GreedyParams {
+            alpha: 0.5,
+            temperature: 0.3,
+        };
+        let mut merges = greedy_tree(&p, &params, &mut rng);
+        let e = p.evaluate(&merges);
+        t.row([
+            net.name.clone(),
+            "greedy".into(),
+            "-".into(),
+            format!("{:.2}", e.total_ops_log2),
+            format!("{:.0}", e.width),
+            "-".into(),
+        ]);
+        for (pass, k) in [5usize, 6, 7, 8, 8].into_iter().enumerate() {
+            let began = Instant::now();
+            let params = RefineParams {
+                k,
+                goal: ExactGoal::TotalOps,
+                passes: 1,
+                random_frontier: (pass % 2 == 1).then_some(pass as u64),
+            };
+            merges = refine_tree(&p, &merges, &params, None).0;
+            let secs = began.elapsed().as_secs_f64();
+            let e = p.evaluate(&merges);
+            t.row([
+                String::new(),
+                (pass + 1).to_string(),
+                k.to_string(),
+                format!("{:.2}", e.total_ops_log2),
+                format!("{:.0}", e.width),
+                format!("{secs:.1}"),
+            ]);
+        }
+    }
+    println!(
+        "Subtree reconfiguration on 10^5-tensor trees (a warm greedy tree, then linear passes)\n{}",
+        t.render(2)
     );
 }
 
