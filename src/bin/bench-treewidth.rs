@@ -11,6 +11,10 @@
 //! The search is the library's `find_tree` with `SearchOptions::time`, as
 //! users run it; the reference is the library's deterministic min-fill tree
 //! (`min_fill_tree`), priced by the cost model.
+//!
+//! Diagnostic: with `SP_ILS=SECONDS` set, each named graph instead gets one
+//! long local search on its min-fill order (`improve_order`) and prints the
+//! order widths before and after.
 
 use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
@@ -100,8 +104,44 @@ fn network(name: &str, n: usize, edges: &[(usize, usize)]) -> Network {
     b.build().expect("network")
 }
 
+/// Diagnostic: one long order search per graph from a min-fill start
+/// (`SP_ILS=SECONDS`).
+fn ils_only(args: &Args, secs: f64) {
+    use rand::SeedableRng;
+    use sliceplan::search::{
+        elimination_order, improve_order, ExactGoal, OrderParams, OrderRule, Simplified,
+    };
+    for name in &args.only {
+        let (n, edges) = read_gr(&args.dir.join(format!("{name}.gr")));
+        let net = network(name, n, &edges);
+        let p = Simplified::new(&net, false).problem;
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(1);
+        let start = elimination_order(&p, &OrderParams::plain(OrderRule::MinFill), &mut rng, None)
+            .expect("order");
+        let began = Instant::now();
+        let deadline = Some(began + Duration::from_secs_f64(secs));
+        let best = improve_order(
+            &p,
+            &start.order,
+            ExactGoal::Width,
+            usize::MAX,
+            deadline,
+            &mut rng,
+        )
+        .expect("order");
+        println!(
+            "{name}: min-fill width {}, after {secs} s of order search {}",
+            start.width, best.width
+        );
+    }
+}
+
 fn main() {
     let args = parse_args();
+    if let Some(secs) = std::env::var("SP_ILS").ok().and_then(|s| s.parse().ok()) {
+        ils_only(&args, secs);
+        return;
+    }
     let table_path = args.dir.join("treewidths.tsv");
     let listing = std::fs::read_to_string(&table_path).unwrap_or_else(|e| {
         eprintln!("{}: {e}", table_path.display());

@@ -16,7 +16,7 @@ pub const MAX_THREADS: usize = 1024;
 /// Which finders the trials may draw.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Finders {
-    /// The exact finder as trial 0 on small networks.
+    /// The exact finder as the first candidate on small networks.
     pub exact: bool,
     /// The randomised greedy finder.
     pub greedy: bool,

@@ -276,8 +276,22 @@ pub fn elimination_order<R: Rng>(
     deadline: Option<Instant>,
 ) -> Option<Order> {
     let mut g = Dense::new(p)?;
-    let m = p.weight.len();
-    let eligible = |u: usize| !p.open[u] && !p.incidence[u].is_empty();
+    let eligible: Vec<bool> = (0..p.weight.len())
+        .map(|u| !p.open[u] && !p.incidence[u].is_empty())
+        .collect();
+    greedy_order(&mut g, &eligible, params, rng, deadline)
+}
+
+/// Eliminates every vertex of `g` flagged in `eligible` by the rule of
+/// `params`, from the graph's present state; `None` past the deadline.
+fn greedy_order<R: Rng>(
+    g: &mut Dense,
+    eligible: &[bool],
+    params: &OrderParams,
+    rng: &mut R,
+    deadline: Option<Instant>,
+) -> Option<Order> {
+    let m = eligible.len();
     let key = |g: &Dense, u: usize, rng: &mut R| {
         let (a, b) = match params.rule {
             OrderRule::MinFill => (g.fill[u] as f64, g.degree[u]),
@@ -297,8 +311,8 @@ pub fn elimination_order<R: Rng>(
     };
     let mut version = vec![0u32; m];
     let mut heap: BinaryHeap<Reverse<(OrderKey, u32, u32)>> = BinaryHeap::with_capacity(m);
-    for u in (0..m).filter(|&u| eligible(u)) {
-        heap.push(Reverse((key(&g, u, rng), u as u32, 0)));
+    for u in (0..m).filter(|&u| eligible[u]) {
+        heap.push(Reverse((key(g, u, rng), u as u32, 0)));
     }
     let mut done = vec![false; m];
     let mut dirty: Vec<usize> = Vec::new();
@@ -328,9 +342,9 @@ pub fn elimination_order<R: Rng>(
         out.cost_log2 = log2_add(out.cost_log2, clique);
         for u in dirty.drain(..) {
             is_dirty[u] = false;
-            if !done[u] && eligible(u) {
+            if !done[u] && eligible[u] {
                 version[u] = version[u].wrapping_add(1);
-                heap.push(Reverse((key(&g, u, rng), u as u32, version[u])));
+                heap.push(Reverse((key(g, u, rng), u as u32, version[u])));
             }
         }
     }
