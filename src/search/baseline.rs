@@ -39,8 +39,7 @@
 use petgraph::graph::{NodeIndex, UnGraph};
 use petgraph::visit::{Bfs, VisitMap};
 
-use super::driver::find_tree;
-use super::options::{Finders, SearchOptions};
+use super::greedy::{greedy_tree, GreedyParams};
 use super::problem::{left_deep, Problem};
 use super::simplify::Simplified;
 use crate::error::Result;
@@ -119,20 +118,12 @@ pub fn baseline_tree(net: &Network) -> Result<(Tree, BaselineKind)> {
     if entries <= BASELINE_MAX_ENTRIES {
         return Ok((file_order_tree(net), BaselineKind::FileOrder));
     }
-    let opts = SearchOptions {
-        threads: 1,
-        finders: Finders {
-            exact: false,
-            greedy: true,
-            partition: false,
-            refine: false,
-        },
-        candidates: false,
-        ..SearchOptions::trials(1, 0)
-    };
-    let found = find_tree(net, &opts)?;
+    let s = Simplified::new(net, false);
+    // The plain greedy rule draws nothing; the generator is a parameter.
+    let mut rng = <rand_chacha::ChaCha8Rng as rand::SeedableRng>::seed_from_u64(0);
+    let merges = greedy_tree(&s.problem, &GreedyParams::default(), &mut rng);
     Ok((
-        found.tree,
+        s.expand(&merges),
         BaselineKind::Greedy {
             file_order_entries: entries,
         },
