@@ -45,6 +45,24 @@
 //! indices, plus a heap operation per updated index: near linear in the
 //! network for bounded fill, with no quadratic fill bookkeeping. Memory:
 //! the current tensors' lists and the holder lists.
+//!
+//! # Example
+//!
+//! ```
+//! use rand::SeedableRng;
+//! use sliceplan::search::{order_tree, quotient_tree, OrderParams, OrderRule, Problem};
+//! // A ring of six matrices (bond 2): eliminating its bonds in ring order
+//! // contracts it as a chain; each bucket's largest contraction holds three
+//! // bonds (the ring's treewidth is 2).
+//! let tensors = (0..6u32).map(|k| vec![k, (k + 1) % 6]).collect();
+//! let p = Problem::new(tensors, vec![1.0; 6], vec![false; 6]);
+//! let merges = order_tree(&p, &[0, 1, 2, 3, 4, 5]);
+//! assert_eq!(p.evaluate(&merges).op_width, 3.0);
+//! let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(1);
+//! let params = OrderParams::plain(OrderRule::MinDegree);
+//! let merges = quotient_tree(&p, &params, &mut rng, None).unwrap();
+//! assert_eq!(p.evaluate(&merges).op_width, 3.0);
+//! ```
 
 use std::cmp::Reverse;
 use std::collections::BinaryHeap;

@@ -32,6 +32,7 @@ mod bandit;
 mod baseline;
 mod bound;
 mod buckets;
+mod candidates;
 mod dissect;
 mod driver;
 mod exact;
@@ -44,6 +45,7 @@ mod partition;
 mod price;
 mod problem;
 mod refine;
+mod rounds;
 mod simplify;
 mod trial;
 

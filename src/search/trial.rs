@@ -53,7 +53,7 @@ pub(super) fn arms(p: &Problem, greedy: bool, partition: bool, orders: bool) -> 
 pub(super) enum Effort {
     /// Until this moment.
     Until(Instant),
-    /// This many moves per index (searches without a time budget).
+    /// This many moves (searches without a time budget).
     Moves(usize),
 }
 
@@ -84,7 +84,7 @@ pub(super) fn run_arm<R: Rng>(
             };
             let (steps, until) = match effort {
                 Effort::Until(t) => (usize::MAX, Some(deadline.map_or(t, |d| d.min(t)))),
-                Effort::Moves(k) => (k.saturating_mul(order.len().max(1)), deadline),
+                Effort::Moves(k) => (k, deadline),
             };
             let better = improve_order(p, &order, goal, steps, until, rng)?;
             order_tree(p, &better.order)
