@@ -129,3 +129,38 @@ fn the_report_says_where_the_time_went() {
     let json = serde_json::to_value(&found.candidates).unwrap();
     assert_eq!(json[0]["finder"], "file-order");
 }
+
+/// A network of at most 12 tensors is solved by the exact finder over all
+/// trees, so a time-budgeted search ends there, with no trial, instead of
+/// spending its budget (the budget here is a minute; the search takes
+/// milliseconds, and a regression would show as a minute-long test).
+#[test]
+fn small_networks_end_once_the_exact_optimum_is_proven() {
+    // The matrix chain of Cormen et al., Introduction to Algorithms, 3rd ed.,
+    // section 15.2: dims 30, 35, 15, 5, 10, 20, 25, least 15,125 scalar
+    // multiplications.
+    let clrs = chain(&[30, 35, 15, 5, 10, 20, 25]);
+    // A ring of 12 matrices (bond 2): 12 tensors, the largest network the
+    // exact finder solves over all trees (ALL_SUBSETS_MAX).
+    let ring_edges: Vec<(usize, usize)> = (0..12).map(|k| (k, (k + 1) % 12)).collect();
+    let ring = from_edges("ring-12", 12, &ring_edges, 2);
+    for net in [&clrs, &ring] {
+        let opts = SearchOptions {
+            threads: 1,
+            ..SearchOptions::time(Duration::from_secs(60), 0)
+        };
+        let found = find_tree(net, &opts).unwrap();
+        assert_eq!(found.finder, "exact", "{}", net.name);
+        assert_eq!(found.trials, 0, "{}", net.name);
+        assert!(is_valid(net, &found.tree));
+    }
+    let found = find_tree(
+        &clrs,
+        &SearchOptions {
+            threads: 1,
+            ..SearchOptions::time(Duration::from_secs(60), 0)
+        },
+    )
+    .unwrap();
+    assert_eq!(found.metrics.total_ops.exact, Some(15125)); // CLRS 15.2
+}
