@@ -108,6 +108,8 @@ fn trials_and_time_are_both_honoured() {
     };
     let found = find_tree(&net, &opts).unwrap();
     assert_eq!(found.trials, 3);
+    // Trials are counted from 1; 0 names a candidate.
+    assert!(found.best_trial <= found.trials, "{}", found.best_trial);
     assert!(is_valid(&net, &found.tree));
 }
 
@@ -152,6 +154,7 @@ fn small_networks_end_once_the_exact_optimum_is_proven() {
         let found = find_tree(net, &opts).unwrap();
         assert_eq!(found.finder, "exact", "{}", net.name);
         assert_eq!(found.trials, 0, "{}", net.name);
+        assert_eq!(found.best_trial, 0, "{}", net.name);
         assert!(is_valid(net, &found.tree));
     }
     let found = find_tree(

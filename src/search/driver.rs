@@ -100,6 +100,9 @@ use crate::num::log2_add;
 /// candidate.
 pub const EXACT_AUTO: usize = 16;
 
+/// Sequence number of trial 0 (candidates are numbered below it).
+pub(super) const TRIAL_SEQ_BASE: u64 = 1_000;
+
 /// Trials per bandit round.
 pub(super) const ROUND: usize = 8;
 
@@ -317,7 +320,7 @@ pub fn find_tree_with(
         metrics,
         lower_bound,
         trials: ctx.trials_done.load(Ordering::SeqCst),
-        best_trial: best.seq,
+        best_trial: best.seq.checked_sub(TRIAL_SEQ_BASE).map_or(0, |i| i + 1),
         finder: best.finder,
         seconds_to_best: best.at.as_secs_f64(),
         seconds: start.elapsed().as_secs_f64(),

@@ -182,7 +182,9 @@ pub struct SearchResult {
     pub lower_bound: WidthBound,
     /// Trials run.
     pub trials: u64,
-    /// The trial that found the best tree.
+    /// The trial that found the best tree, counted from 1 (so at most
+    /// `trials`); 0 when the best tree is a candidate priced before any
+    /// trial (`finder` names it).
     pub best_trial: u64,
     /// How the best tree was found, e.g. `greedy+refine`.
     pub finder: String,

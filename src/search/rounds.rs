@@ -10,7 +10,7 @@ use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 
 use super::bandit::{Arm, Bandit};
-use super::driver::{trial_seed, Ctx, Found, REFINE_MAX_ENTRIES, ROUND};
+use super::driver::{trial_seed, Ctx, Found, REFINE_MAX_ENTRIES, ROUND, TRIAL_SEQ_BASE};
 use super::refine::{refine_tree, RefineParams};
 use super::trial::{polish, run_arm, Effort};
 
@@ -25,7 +25,7 @@ impl Ctx<'_> {
         hard_end: Option<Instant>,
     ) -> u64 {
         let goal = self.opts.objective.exact_goal();
-        let base = 1_000u64;
+        let base = TRIAL_SEQ_BASE;
         let mut next = first;
         // Expected duration per arm: the longest trial of that arm so far,
         // or before any, the candidate of the same finder (the slowest
