@@ -13,7 +13,7 @@
 pub mod bytes;
 pub mod machine;
 pub mod memory;
-pub(crate) mod peak;
+pub mod peak;
 pub mod time;
 pub mod trace;
 

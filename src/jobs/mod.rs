@@ -19,10 +19,10 @@
 //! are missing, [`write_resubmit`] writes the fourth, and [`Scheduler`]
 //! submits scripts (to Slurm, or to a deterministic stand-in in tests).
 
-pub(crate) mod array;
+pub mod array;
 pub mod directives;
 pub mod manifest;
-pub(crate) mod quote;
+pub mod quote;
 pub mod resources;
 pub mod scheduler;
 pub(crate) mod scripts;

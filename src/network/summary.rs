@@ -2,6 +2,7 @@
 
 use std::collections::BTreeMap;
 
+use petgraph::unionfind::UnionFind;
 use serde::Serialize;
 
 use super::Network;
@@ -112,25 +113,16 @@ impl Summary {
 }
 
 /// Connected components of the graph whose vertices are tensors and whose
-/// edges are shared indices (union-find).
+/// edges are shared indices (petgraph's union-find).
 fn components(net: &Network, incidence: &[Vec<usize>]) -> usize {
-    let mut parent: Vec<usize> = (0..net.num_tensors()).collect();
-    fn find(parent: &mut [usize], mut x: usize) -> usize {
-        while parent[x] != x {
-            parent[x] = parent[parent[x]];
-            x = parent[x];
-        }
-        x
-    }
+    let mut sets = UnionFind::<usize>::new(net.num_tensors());
     for tensors in incidence {
         for w in tensors.windows(2) {
-            let (a, b) = (find(&mut parent, w[0]), find(&mut parent, w[1]));
-            if a != b {
-                parent[a] = b;
-            }
+            sets.union(w[0], w[1]);
         }
     }
-    (0..net.num_tensors())
-        .filter(|&t| find(&mut parent, t) == t)
-        .count()
+    let mut roots = sets.into_labeling();
+    roots.sort_unstable();
+    roots.dedup();
+    roots.len()
 }
