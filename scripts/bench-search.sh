@@ -6,6 +6,12 @@
 #
 # Usage: scripts/bench-search.sh [FAMILY ...]
 #   families: lattice2d lattice3d regular brickwork random12 scale10k scale100k rate500
+#   (the default set), and on request: lattices (L = 100, 316, 1000 with
+#   10 s, 60 s, 120 s; about 5 minutes and 2 GB), circuits (brickwork and
+#   random circuits, 50 to 100 qubits, depth 20; 1 minute), regular100k
+#   (3-regular graph of 10^5 vertices, 10 s), refine100k (subtree
+#   reconfiguration passes on 10^5-tensor trees; 1 minute), finders
+#   (how long each simple order takes on large networks)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet --bin bench-search

@@ -1,7 +1,8 @@
 //! One tester for every finder (STYLE §11): each runs on the same fixtures
 //! and each result goes through the same validator. Also: determinism of the
 //! driver across thread counts, and property tests (exact ≤ heuristic,
-//! refinement never worse).
+//! refinement never worse, the search's own pricing equal to the cost
+//! model's).
 
 mod search_support;
 
@@ -12,8 +13,10 @@ use search_support::*;
 use sliceplan::cost::metrics;
 use sliceplan::network::Network;
 use sliceplan::search::{
-    anneal_tree, exact_tree, find_tree, greedy_tree, partition_tree, refine_tree, AnnealParams,
-    ExactGoal, Finders, GreedyParams, Objective, PartitionParams, Problem, RefineParams,
+    anneal_tree, dissection_tree, elimination_tree, exact_tree, find_tree, greedy_tree,
+    improve_order, left_deep, order_of_tree, order_tree, partition_tree, quotient_tree,
+    refine_tree, sweep_order, tree_metrics, AnnealParams, DissectParams, ExactGoal, Finders,
+    GreedyParams, Objective, OrderParams, OrderRule, PartitionParams, Problem, RefineParams,
     SearchOptions, Simplified,
 };
 use sliceplan::tree::{tree_file_text, Tree};
@@ -57,6 +60,17 @@ fn validate(net: &Network, what: &str, tree: &Tree, claimed: Option<(f64, f64)>)
         "{what}: covers every tensor once"
     );
     let m = metrics(net, tree);
+    // The search's lean pricing (no per-node tables) is a third
+    // implementation of DESIGN §3; it must agree with the cost model.
+    let lean = tree_metrics(net, tree);
+    let close = |a: f64, b: f64| a == b || (a - b).abs() < 1e-9;
+    assert_eq!(lean.total_ops.exact, m.total_ops.exact, "{what}");
+    assert!(close(lean.total_ops.log2, m.total_ops.log2), "{what}");
+    assert!(close(lean.width, m.width), "{what}");
+    assert!(close(lean.op_width, m.op_width), "{what}");
+    assert!(close(lean.peak.log2, m.peak.log2), "{what}");
+    assert_eq!(lean.peak.exact, m.peak.exact, "{what}");
+    assert_eq!(lean.height, m.height, "{what}");
     if let Some((ops, width)) = claimed {
         let tol = 1e-9 * (1.0 + ops.abs());
         if n > 1 {
@@ -122,6 +136,79 @@ fn finders() -> Vec<(&'static str, Finder)> {
                     random_frontier: Some(5),
                 };
                 Some(refine_tree(p, &m, &params, None).0)
+            }),
+        ),
+        (
+            "file-order",
+            Box::new(|p: &Problem| {
+                let order: Vec<u32> = (0..p.len() as u32).collect();
+                Some(left_deep(p.len(), &order))
+            }),
+        ),
+        (
+            "sweep",
+            Box::new(|p: &Problem| Some(left_deep(p.len(), &sweep_order(p)))),
+        ),
+        (
+            "min-fill",
+            Box::new(move |p: &Problem| {
+                let params = OrderParams::plain(OrderRule::MinFill);
+                elimination_tree(p, &params, &mut rng(), None)
+            }),
+        ),
+        (
+            "min-degree",
+            Box::new(move |p: &Problem| {
+                let params = OrderParams::plain(OrderRule::MinDegree);
+                elimination_tree(p, &params, &mut rng(), None)
+            }),
+        ),
+        (
+            "min-fill-noisy",
+            Box::new(move |p: &Problem| {
+                let params = OrderParams {
+                    rule: OrderRule::MinFill,
+                    random_ties: true,
+                    noise: 2.0,
+                };
+                elimination_tree(p, &params, &mut rng(), None)
+            }),
+        ),
+        (
+            "quotient-min-degree",
+            Box::new(move |p: &Problem| {
+                let params = OrderParams {
+                    rule: OrderRule::MinDegree,
+                    random_ties: true,
+                    noise: 0.0,
+                };
+                quotient_tree(p, &params, &mut rng(), None)
+            }),
+        ),
+        (
+            "quotient-min-fill",
+            Box::new(move |p: &Problem| {
+                let params = OrderParams::plain(OrderRule::MinFill);
+                quotient_tree(p, &params, &mut rng(), None)
+            }),
+        ),
+        (
+            "dissection",
+            Box::new(|p: &Problem| dissection_tree(p, &DissectParams::default())),
+        ),
+        (
+            "order-search",
+            Box::new(move |p: &Problem| {
+                let start = order_of_tree(p, &greedy_tree(p, &GreedyParams::default(), &mut rng()));
+                let better = improve_order(p, &start, ExactGoal::Width, 300, None, &mut rng())?;
+                Some(order_tree(p, &better.order))
+            }),
+        ),
+        (
+            "reversed-order",
+            Box::new(|p: &Problem| {
+                let order: Vec<u32> = (0..p.weight.len() as u32).rev().collect();
+                Some(order_tree(p, &order))
             }),
         ),
         (

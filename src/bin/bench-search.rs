@@ -3,7 +3,16 @@
 //! release build); targets are printed beside the figures, never asserted.
 //!
 //! Usage: `bench-search FAMILY` with FAMILY one of lattice2d, lattice3d,
-//! regular, brickwork, random12, scale10k, scale100k, rate500, or `all`.
+//! regular, brickwork, random12, scale10k, scale100k, rate500, lattices
+//! (L = 100, 316, 1000 with 10 s, 60 s, 120 s), circuits (brickwork and
+//! random circuits of 50 to 100 qubits, depth 20), regular100k (3-regular,
+//! 10^5 vertices, 10 s), refine100k (subtree reconfiguration passes on
+//! trees of 10^5 tensors), or `all` (the first eight).
+//!
+//! Every search is the library's `find_tree` with `SearchOptions`, as users
+//! run it; the references are the library's `file_order_tree` and
+//! `min_fill_tree`, priced by `tree_metrics` (the cost model without
+//! per-node tables, which a left-deep tree of 10^6 tensors would not fit).
 
 use std::time::{Duration, Instant};
 
@@ -14,8 +23,8 @@ use sliceplan::generate::{brickwork, graph_network, lattice, random_regular_grap
 use sliceplan::network::{Network, NetworkBuilder};
 use sliceplan::report::Table;
 use sliceplan::search::{
-    exact_tree, find_tree, ExactGoal, Finders, Objective, Problem, SearchOptions, SearchResult,
-    Simplified,
+    exact_tree, file_order_tree, find_tree, min_fill_tree, tree_metrics, ExactGoal, Finders,
+    Objective, Problem, SearchOptions, SearchResult, Simplified,
 };
 
 fn main() {
@@ -36,6 +45,17 @@ fn main() {
     run("scale10k", &scale10k);
     run("scale100k", &scale100k);
     run("rate500", &rate500);
+    let mut extra = |name: &str, f: &dyn Fn()| {
+        if family == name {
+            known = true;
+            f();
+        }
+    };
+    extra("lattices", &lattices);
+    extra("circuits", &circuits);
+    extra("regular100k", &regular100k);
+    extra("finders", &finders_timing);
+    extra("refine100k", &refine100k);
     if !known {
         eprintln!("unknown family '{family}'; see the file's doc comment");
         std::process::exit(2);
@@ -294,6 +314,341 @@ fn rate500() {
         t.render(2),
         notes.join("\n")
     );
+}
+
+/// One search against the file order and min-fill references.
+struct Versus {
+    name: String,
+    tensors: usize,
+    budget: f64,
+    ours: sliceplan::cost::Metrics,
+    secs: f64,
+    finder: String,
+    phases: String,
+    file: sliceplan::cost::Metrics,
+    fill: Option<(sliceplan::cost::Metrics, f64)>,
+}
+
+fn versus(net: &Network, opts: &SearchOptions, with_fill: bool) -> Versus {
+    let file = tree_metrics(net, &file_order_tree(net));
+    let fill = with_fill.then(|| {
+        let began = Instant::now();
+        let tree = min_fill_tree(net);
+        (tree_metrics(net, &tree), began.elapsed().as_secs_f64())
+    });
+    let began = Instant::now();
+    let r = find_tree(net, opts).expect("search runs");
+    let secs = began.elapsed().as_secs_f64();
+    let p = r.phases;
+    Versus {
+        name: net.name.clone(),
+        tensors: net.num_tensors(),
+        budget: opts.time.map_or(0.0, |t| t.as_secs_f64()),
+        ours: r.metrics,
+        secs,
+        finder: r.finder,
+        phases: format!(
+            "{:.2}/{:.2}/{:.2}/{:.2}/{:.2}",
+            p.simplify, p.candidates, p.trials, p.refine, p.pricing
+        ),
+        file,
+        fill,
+    }
+}
+
+fn versus_table(rows: &[(Versus, String)]) -> String {
+    let mut t = Table::new([
+        "network",
+        "tensors",
+        "budget s",
+        "took s",
+        "width",
+        "ops log2",
+        "file width",
+        "file ops",
+        "min-fill width",
+        "min-fill ops",
+        "best from",
+        "phases s (simplify/cand/trials/refine/price)",
+        "targets",
+    ]);
+    for (v, targets) in rows {
+        let (fw, fo) = match &v.fill {
+            Some((m, _)) => (
+                format!("{:.0}", m.width),
+                format!("{:.2}", m.total_ops.log2),
+            ),
+            None => ("-".into(), "-".into()),
+        };
+        t.row([
+            v.name.clone(),
+            v.tensors.to_string(),
+            format!("{:.0}", v.budget),
+            format!("{:.1}", v.secs),
+            format!("{:.0}", v.ours.width),
+            format!("{:.2}", v.ours.total_ops.log2),
+            format!("{:.0}", v.file.width),
+            format!("{:.2}", v.file.total_ops.log2),
+            fw,
+            fo,
+            v.finder.clone(),
+            v.phases.clone(),
+            targets.clone(),
+        ]);
+    }
+    t.render(2)
+}
+
+fn lattices() {
+    let mut rows = Vec::new();
+    for (l, secs) in [(100usize, 10.0), (316, 60.0), (1000, 120.0)] {
+        let began = Instant::now();
+        let net = lattice(&[l, l], 2, false).expect("lattice");
+        let built = began.elapsed().as_secs_f64();
+        let opts = timed(Objective::TotalOps, secs, 1);
+        let v = versus(&net, &opts, l <= 316);
+        eprintln!(
+            "{}: built in {built:.1} s, searched in {:.1} s",
+            net.name, v.secs
+        );
+        let targets = format!(
+            "width <= {}: {}; ops <= file order's: {}; within budget +10%: {}",
+            l + 1,
+            met(v.ours.width <= (l + 1) as f64 + 1e-9),
+            met(v.ours.total_ops.log2 <= v.file.total_ops.log2 + 1e-9),
+            met(v.secs <= v.budget * 1.1),
+        );
+        rows.push((v, targets));
+    }
+    println!(
+        "Large 2D lattices, bond 2, objective ops (min-fill not run at 10^6)\n{}  peak memory {}\n",
+        versus_table(&rows),
+        rss()
+    );
+}
+
+/// The amplitude network of a random circuit of our own: every layer pairs
+/// the qubits at random (a shuffled perfect matching) and puts a two-qubit
+/// gate on each pair; one-index input and output tensors per qubit.
+fn random_circuit(qubits: usize, depth: usize, seed: u64) -> Network {
+    use rand::seq::SliceRandom;
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut b = NetworkBuilder::new(format!("random-circuit-{qubits}q-d{depth}"));
+    let mut wire = Vec::with_capacity(qubits);
+    let mut version = vec![0usize; qubits];
+    for q in 0..qubits {
+        let e = b.index(&format!("q{q}_0"), 2).expect("index");
+        b.tensor_by_ids(&format!("init{q}"), vec![e], None)
+            .expect("tensor");
+        wire.push(e);
+    }
+    let mut order: Vec<usize> = (0..qubits).collect();
+    for layer in 0..depth {
+        order.shuffle(&mut rng);
+        for pair in order.chunks(2) {
+            let [a, c] = pair else { continue };
+            let mut legs = vec![wire[*a], wire[*c]];
+            for &q in [a, c] {
+                version[q] += 1;
+                let e = b.index(&format!("q{q}_{}", version[q]), 2).expect("index");
+                legs.push(e);
+                wire[q] = e;
+            }
+            b.tensor_by_ids(&format!("g{layer}_{a}_{c}"), legs, None)
+                .expect("tensor");
+        }
+    }
+    for (q, &e) in wire.iter().enumerate() {
+        b.tensor_by_ids(&format!("out{q}"), vec![e], None)
+            .expect("tensor");
+    }
+    b.build().expect("network")
+}
+
+fn circuits() {
+    let mut rows = Vec::new();
+    for (r, c) in [(5usize, 10usize), (7, 10), (10, 10)] {
+        let net = brickwork(r, c, 20, 3).expect("circuit");
+        rows.push(versus(&net, &timed(Objective::TotalOps, 10.0, 1), true));
+    }
+    for q in [50usize, 70, 100] {
+        let net = random_circuit(q, 20, 5);
+        rows.push(versus(&net, &timed(Objective::TotalOps, 10.0, 1), true));
+    }
+    let rows: Vec<(Versus, String)> = rows
+        .into_iter()
+        .map(|v| {
+            let fill = v
+                .fill
+                .as_ref()
+                .map_or(f64::INFINITY, |f| f.0.total_ops.log2);
+            let targets = format!(
+                "ops <= file order's: {}; ops <= min-fill's: {}; within budget +10%: {}",
+                met(v.ours.total_ops.log2 <= v.file.total_ops.log2 + 1e-9),
+                met(v.ours.total_ops.log2 <= fill + 1e-9),
+                met(v.secs <= v.budget * 1.1),
+            );
+            (v, targets)
+        })
+        .collect();
+    println!(
+        "Circuits of our own (brickwork on a grid, random pairings), depth 20, objective ops, 10 s\n{}",
+        versus_table(&rows)
+    );
+}
+
+fn regular100k() {
+    let began = Instant::now();
+    let edges = random_regular_graph(100_000, 3, 11).expect("graph");
+    let net = graph_network(100_000, &edges, 2).expect("network");
+    let built = began.elapsed().as_secs_f64();
+    let opts = timed(Objective::TotalOps, 10.0, 1);
+    let began = Instant::now();
+    let r = find_tree(&net, &opts).expect("search runs");
+    let secs = began.elapsed().as_secs_f64();
+    let valid = sliceplan::tree::Tree::new(net.num_tensors(), r.tree.merges().to_vec()).is_ok();
+    let mut t = header();
+    row(
+        &mut t,
+        &net,
+        &opts,
+        &r,
+        format!(
+            "valid tree within 10 s of search: {} ({secs:.1} s; building the network took {built:.1} s, not counted)",
+            met(valid && secs <= 11.0)
+        ),
+    );
+    let p = r.phases;
+    println!(
+        "100,000 tensors (random 3-regular graph, graph seed 11), 10 s budget\n{}  phases s: simplify {:.2}, candidates {:.2}, trials {:.2}, refine {:.2}, pricing {:.2}; candidates: {}\n  peak memory {}\n",
+        t.render(2),
+        p.simplify,
+        p.candidates,
+        p.trials,
+        p.refine,
+        p.pricing,
+        r.candidates
+            .iter()
+            .map(|c| format!("{} 2^{:.1} ({:.1} s)", c.finder, c.total_ops_log2, c.seconds))
+            .collect::<Vec<_>>()
+            .join(", "),
+        rss()
+    );
+}
+
+/// Linear passes of subtree reconfiguration (`refine_tree`, one pass per
+/// row, window size k growing) on greedy trees of 10^5 tensors: the total
+/// ops after each pass and its time.
+fn refine100k() {
+    use sliceplan::search::{greedy_tree, refine_tree, GreedyParams, RefineParams};
+    let nets = [
+        lattice(&[316, 316], 2, false).expect("lattice"),
+        graph_network(
+            100_000,
+            &random_regular_graph(100_000, 3, 11).expect("graph"),
+            2,
+        )
+        .expect("network"),
+    ];
+    let mut t = Table::new(["network", "pass", "k", "total ops log2", "width", "s"]);
+    for net in &nets {
+        let p = Simplified::new(net, false).problem;
+        let mut rng = ChaCha8Rng::seed_from_u64(1);
+        let params = GreedyParams {
+            alpha: 0.5,
+            temperature: 0.3,
+        };
+        let mut merges = greedy_tree(&p, &params, &mut rng);
+        let e = p.evaluate(&merges);
+        t.row([
+            net.name.clone(),
+            "greedy".into(),
+            "-".into(),
+            format!("{:.2}", e.total_ops_log2),
+            format!("{:.0}", e.width),
+            "-".into(),
+        ]);
+        for (pass, k) in [5usize, 6, 7, 8, 8].into_iter().enumerate() {
+            let began = Instant::now();
+            let params = RefineParams {
+                k,
+                goal: ExactGoal::TotalOps,
+                passes: 1,
+                random_frontier: (pass % 2 == 1).then_some(pass as u64),
+            };
+            merges = refine_tree(&p, &merges, &params, None).0;
+            let secs = began.elapsed().as_secs_f64();
+            let e = p.evaluate(&merges);
+            t.row([
+                String::new(),
+                (pass + 1).to_string(),
+                k.to_string(),
+                format!("{:.2}", e.total_ops_log2),
+                format!("{:.0}", e.width),
+                format!("{secs:.1}"),
+            ]);
+        }
+    }
+    println!(
+        "Subtree reconfiguration on 10^5-tensor trees (a warm greedy tree, then linear passes)\n{}",
+        t.render(2)
+    );
+}
+
+/// How long each simple order takes on the large networks (diagnostic).
+fn finders_timing() {
+    use sliceplan::search::{
+        dissection_tree, elimination_tree, greedy_tree, sweep_order, DissectParams, GreedyParams,
+        OrderParams, OrderRule,
+    };
+    let nets = [
+        (
+            "lattice 316",
+            lattice(&[316, 316], 2, false).expect("lattice"),
+        ),
+        (
+            "3-regular 1e5",
+            graph_network(
+                100_000,
+                &random_regular_graph(100_000, 3, 11).expect("graph"),
+                2,
+            )
+            .expect("network"),
+        ),
+        ("random circuit 100q", random_circuit(100, 20, 5)),
+    ];
+    for (name, net) in &nets {
+        let p = Simplified::new(net, false).problem;
+        let mut rng = ChaCha8Rng::seed_from_u64(1);
+        let deadline = Some(Instant::now() + Duration::from_secs(60));
+        let time = |what: &str, f: &mut dyn FnMut() -> Option<Vec<[usize; 2]>>| {
+            let began = Instant::now();
+            let m = f();
+            let secs = began.elapsed().as_secs_f64();
+            let e = m.map(|m| p.evaluate(&m));
+            eprintln!(
+                "{name}: {what} {secs:.2} s: {}",
+                e.map_or("cut".to_string(), |e| format!(
+                    "width {:.0}, ops 2^{:.1}",
+                    e.width, e.total_ops_log2
+                ))
+            );
+        };
+        time("sweep", &mut || {
+            Some(sliceplan::search::left_deep(p.len(), &sweep_order(&p)))
+        });
+        time("greedy", &mut || {
+            Some(greedy_tree(&p, &GreedyParams::default(), &mut rng.clone()))
+        });
+        for rule in [OrderRule::MinDegree, OrderRule::MinFill] {
+            time(&format!("{rule:?}"), &mut || {
+                elimination_tree(&p, &OrderParams::plain(rule), &mut rng, deadline)
+            });
+        }
+        time("dissection", &mut || {
+            dissection_tree(&p, &DissectParams::default())
+        });
+    }
 }
 
 fn met(ok: bool) -> &'static str {

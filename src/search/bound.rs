@@ -164,6 +164,34 @@ fn minor_min_width(net: &Network, in_graph: &[bool], w: &[f64]) -> Option<f64> {
 
 /// A proven lower bound on the width of every tree (see the module docs).
 pub fn width_lower_bound(net: &Network) -> WidthBound {
+    bounds(net).0
+}
+
+/// A proven lower bound on the op width of every tree of at least two
+/// tensors: the largest of the width bound and the line graph's weighted
+/// degeneracy or minor-min-width D itself (not 2D/3). Why: the operands
+/// and the result of a merge lie inside the union its ops multiply over,
+/// so op width >= width; and the unions of the merges, with the leaves'
+/// index sets, are the bags of a tree decomposition of the line graph
+/// (module docs) in which every leaf bag lies inside its parent merge's
+/// union, so some union weighs at least D.
+pub fn op_width_lower_bound(net: &Network) -> f64 {
+    lower_bounds(net).1
+}
+
+/// The width bound and the op-width bound together (one pass).
+pub(super) fn lower_bounds(net: &Network) -> (WidthBound, f64) {
+    let (bound, line) = bounds(net);
+    let op = if net.num_tensors() < 2 {
+        0.0
+    } else {
+        bound.width.max(line)
+    };
+    (bound, op)
+}
+
+/// The width bound, and the line graph's D (degeneracy or minor-min-width).
+fn bounds(net: &Network) -> (WidthBound, f64) {
     let w = net.log2_dims();
     let open = net.open_mask();
     let incidence = net.incidence();
@@ -221,11 +249,13 @@ pub fn width_lower_bound(net: &Network) -> WidthBound {
         }
     }
     let minor = minor_min_width(net, &in_graph, &w).unwrap_or(0.0);
-    let line_graph = 2.0 * degeneracy.max(minor) / 3.0;
-    WidthBound {
+    let line = degeneracy.max(minor);
+    let line_graph = 2.0 * line / 3.0;
+    let bound = WidthBound {
         width: largest_tensor.max(output).max(line_graph),
         largest_tensor,
         output,
         line_graph,
-    }
+    };
+    (bound, line)
 }

@@ -9,6 +9,9 @@
 //! * `TotalOps`: the least total ops;
 //! * `Width`: the least width, and among the trees of that width the least
 //!   total ops (two passes: the width first, then total ops under it);
+//! * `OpWidth`: the least op width (log2 of the largest single
+//!   contraction), and among the trees of that op width the least total
+//!   ops (two passes, as for `Width`);
 //! * `OpsWithin(w)`: the least total ops over trees whose every node has
 //!   log2 size at most `w` (`None` when no tree qualifies).
 //!
@@ -71,6 +74,9 @@ pub enum ExactGoal {
     TotalOps,
     /// Least width, then least total ops.
     Width,
+    /// Least op width (largest single-contraction ops), then least total
+    /// ops.
+    OpWidth,
     /// Least total ops with every node at most this log2 size.
     OpsWithin(f64),
 }
@@ -93,25 +99,54 @@ pub fn exact_tree(p: &Problem, goal: ExactGoal) -> Option<Vec<[usize; 2]>> {
         }
     }
     match goal {
-        ExactGoal::TotalOps => table.solve(Mode::Ops { cap: f64::INFINITY }),
-        ExactGoal::OpsWithin(cap) => table.solve(Mode::Ops { cap }),
+        ExactGoal::TotalOps => table.solve(Mode::Ops {
+            cap: f64::INFINITY,
+            op_cap: f64::INFINITY,
+        }),
+        ExactGoal::OpsWithin(cap) => table.solve(Mode::Ops {
+            cap,
+            op_cap: f64::INFINITY,
+        }),
         ExactGoal::Width => {
             let by_width = table.solve(Mode::Width)?;
             let best = table.best_width();
             // Among the trees of least width, the least total ops; the
             // tolerance absorbs float differences between the two passes.
             let cap = best + 1e-9 * (1.0 + best.abs());
-            Some(table.solve(Mode::Ops { cap }).unwrap_or(by_width))
+            Some(
+                table
+                    .solve(Mode::Ops {
+                        cap,
+                        op_cap: f64::INFINITY,
+                    })
+                    .unwrap_or(by_width),
+            )
+        }
+        ExactGoal::OpWidth => {
+            let by_op_width = table.solve(Mode::OpWidth)?;
+            let best = table.best_width();
+            let op_cap = best + 1e-9 * (1.0 + best.abs());
+            Some(
+                table
+                    .solve(Mode::Ops {
+                        cap: f64::INFINITY,
+                        op_cap,
+                    })
+                    .unwrap_or(by_op_width),
+            )
         }
     }
 }
 
 #[derive(Debug, Clone, Copy)]
 enum Mode {
-    /// Sum of ops, with nodes above `cap` forbidden.
-    Ops { cap: f64 },
+    /// Sum of ops, with nodes above `cap` and merges above `op_cap`
+    /// forbidden.
+    Ops { cap: f64, op_cap: f64 },
     /// Largest node size.
     Width,
+    /// Largest ops of one merge.
+    OpWidth,
 }
 
 /// Subset bookkeeping shared by the passes.
@@ -126,7 +161,7 @@ struct Table {
     adjacent: Vec<u32>,
     /// Split every subset (otherwise only connected ones).
     all: bool,
-    /// Result of the width pass, kept for `best_width`.
+    /// Result of the width or op-width pass, kept for `best_width`.
     width_cache: std::cell::Cell<f64>,
 }
 
@@ -243,12 +278,12 @@ impl Table {
             size[s] = self.weight(keep[s]);
             if s32.is_power_of_two() {
                 best[s] = match mode {
-                    Mode::Ops { .. } => f64::NEG_INFINITY,
+                    Mode::Ops { .. } | Mode::OpWidth => f64::NEG_INFINITY,
                     Mode::Width => size[s],
                 };
                 continue;
             }
-            if let Mode::Ops { cap } = mode {
+            if let Mode::Ops { cap, .. } = mode {
                 if size[s] > cap {
                     continue;
                 }
@@ -264,11 +299,19 @@ impl Table {
                     let (b1, b2) = (best[s1 as usize], best[s2 as usize]);
                     if b1 < f64::INFINITY && b2 < f64::INFINITY {
                         let value = match mode {
-                            Mode::Ops { .. } => {
+                            Mode::Ops { op_cap, .. } => {
                                 let ops = self.weight(keep[s1 as usize] | keep[s2 as usize]);
-                                log2_add(log2_add(b1, b2), ops)
+                                if ops > op_cap {
+                                    f64::INFINITY
+                                } else {
+                                    log2_add(log2_add(b1, b2), ops)
+                                }
                             }
                             Mode::Width => b1.max(b2).max(size[s]),
+                            Mode::OpWidth => {
+                                let ops = self.weight(keep[s1 as usize] | keep[s2 as usize]);
+                                b1.max(b2).max(ops)
+                            }
                         };
                         if value < best[s] {
                             best[s] = value;
@@ -282,9 +325,10 @@ impl Table {
                 sub = (sub - 1) & rest;
             }
         }
-        if matches!(mode, Mode::Width) {
-            let w = self.components_width(&best);
-            self.width_cache.set(w);
+        match mode {
+            Mode::Width => self.width_cache.set(self.components_width(&best)),
+            Mode::OpWidth => self.width_cache.set(self.components_op_width(&best)),
+            Mode::Ops { .. } => {}
         }
         (split, best)
     }
@@ -338,6 +382,24 @@ impl Table {
         w
     }
 
+    /// Op width of joining the components (smallest first) after their
+    /// best trees: each join multiplies over both sides' kept indices.
+    fn components_op_width(&self, best: &[f64]) -> f64 {
+        let comps = self.order_components();
+        let mut w = comps
+            .iter()
+            .map(|&c| best[c as usize])
+            .fold(f64::NEG_INFINITY, f64::max);
+        let mut acc = 0u32;
+        for &c in &comps {
+            if acc != 0 {
+                w = w.max(self.weight(self.keep(acc) | self.keep(c)));
+            }
+            acc |= c;
+        }
+        w
+    }
+
     fn order_components(&self) -> Vec<u32> {
         let mut comps = self.components();
         comps.sort_by(|&a, &b| {
@@ -361,8 +423,10 @@ impl Table {
                 None => (c, root),
                 Some((set, node)) => {
                     let joined = set | c;
-                    if let Mode::Ops { cap } = mode {
-                        if self.weight(self.keep(joined)) > cap {
+                    if let Mode::Ops { cap, op_cap } = mode {
+                        if self.weight(self.keep(joined)) > cap
+                            || self.weight(self.keep(set) | self.keep(c)) > op_cap
+                        {
                             return None;
                         }
                     }
@@ -420,5 +484,53 @@ mod tests {
         let w = p.evaluate(&merges).width;
         assert!((w - 1050f64.log2()).abs() < 1e-9, "{w}");
         assert!(exact_tree(&p, ExactGoal::OpsWithin(5.0)).is_none());
+    }
+
+    #[test]
+    fn op_width_goal_matches_a_brute_force() {
+        // Every tree of the chain by the independent brute force below:
+        // the least op width and, under it, the least total ops.
+        let p = chain(&[30., 35., 15., 5., 10., 20., 25.]);
+        let merges = exact_tree(&p, ExactGoal::OpWidth).unwrap();
+        let got = p.evaluate(&merges);
+        let (best_op, best_ops) = brute(&p);
+        assert!(
+            (got.op_width - best_op).abs() < 1e-9,
+            "{} {best_op}",
+            got.op_width
+        );
+        assert!((got.total_ops_log2 - best_ops).abs() < 1e-9);
+    }
+
+    /// The least (op width, total ops) over every tree, by enumerating all
+    /// merge sequences (fine for six tensors).
+    fn brute(p: &Problem) -> (f64, f64) {
+        fn go(p: &Problem, alive: Vec<usize>, merges: &mut Vec<[usize; 2]>, best: &mut (f64, f64)) {
+            if alive.len() == 1 {
+                let e = p.evaluate(merges);
+                if (e.op_width, e.total_ops_log2) < *best {
+                    *best = (e.op_width, e.total_ops_log2);
+                }
+                return;
+            }
+            for i in 0..alive.len() {
+                for j in i + 1..alive.len() {
+                    let node = p.len() + merges.len();
+                    merges.push([alive[i], alive[j]]);
+                    let mut next: Vec<usize> = alive
+                        .iter()
+                        .enumerate()
+                        .filter(|&(k, _)| k != i && k != j)
+                        .map(|(_, &x)| x)
+                        .collect();
+                    next.push(node);
+                    go(p, next, merges, best);
+                    merges.pop();
+                }
+            }
+        }
+        let mut best = (f64::INFINITY, f64::INFINITY);
+        go(p, (0..p.len()).collect(), &mut Vec::new(), &mut best);
+        best
     }
 }

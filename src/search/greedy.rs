@@ -224,6 +224,18 @@ fn gumbel_table() -> Vec<f64> {
 
 /// A tree built by the randomised greedy rule (see the module docs).
 pub fn greedy_tree<R: Rng>(p: &Problem, params: &GreedyParams, rng: &mut R) -> Vec<[usize; 2]> {
+    greedy_tree_until(p, params, rng, None).expect("no deadline, so no early stop")
+}
+
+/// [`greedy_tree`] that gives up, returning `None`, once `deadline` passes
+/// (on dense networks a merge rescores thousands of pairs, so one greedy
+/// tree of 10^4 tensors can take seconds).
+pub fn greedy_tree_until<R: Rng>(
+    p: &Problem,
+    params: &GreedyParams,
+    rng: &mut R,
+    deadline: Option<std::time::Instant>,
+) -> Option<Vec<[usize; 2]>> {
     let n = p.len();
     let mut st = State {
         p,
@@ -283,13 +295,16 @@ pub fn greedy_tree<R: Rng>(p: &Problem, params: &GreedyParams, rng: &mut R) -> V
         }
         let c = st.merge(a, b);
         merges.push([a, b]);
+        if merges.len() % 16 == 0 && deadline.is_some_and(|d| std::time::Instant::now() >= d) {
+            return None;
+        }
         for u in st.neighbours(c) {
             let s = score(&st, u, c, rng);
             heap.push(Reverse((s, u as u32, c as u32)));
         }
     }
     join_components(&mut st, &mut merges);
-    merges
+    Some(merges)
 }
 
 /// Joins what is left (no shared indices) by outer products, smallest first.

@@ -1,5 +1,5 @@
-//! What the search minimises: total ops, peak, width, a weighted mix, or
-//! total ops under a width cap; and how two trees compare under it.
+//! What the search minimises: total ops, peak, width, op width, a weighted
+//! mix, or total ops under a width cap; and how two trees compare under it.
 
 use std::fmt;
 use std::str::FromStr;
@@ -17,6 +17,9 @@ pub enum Objective {
     Peak,
     /// Least width (then least total ops).
     Width,
+    /// Least op width: log2 of the largest single contraction, the time
+    /// exponent of the slowest step (then least total ops).
+    OpWidth,
     /// Least `ops * log2(total ops) + width * width + peak * log2(peak)`.
     Mix {
         /// Weight of log2 total ops.
@@ -42,6 +45,8 @@ pub struct Measures {
     pub total_ops_log2: f64,
     /// Width.
     pub width: f64,
+    /// Op width: log2 of the largest single contraction's ops.
+    pub op_width: f64,
     /// log2 peak, when computed.
     pub peak_log2: Option<f64>,
 }
@@ -67,6 +72,7 @@ impl Objective {
             Objective::TotalOps => (m.total_ops_log2, m.width),
             Objective::Peak => (peak, m.total_ops_log2),
             Objective::Width => (m.width, m.total_ops_log2),
+            Objective::OpWidth => (m.op_width, m.total_ops_log2),
             Objective::Mix {
                 ops,
                 width,
@@ -91,6 +97,7 @@ impl Objective {
         match *self {
             Objective::TotalOps => ExactGoal::TotalOps,
             Objective::Width | Objective::Peak => ExactGoal::Width,
+            Objective::OpWidth => ExactGoal::OpWidth,
             Objective::Mix { ops, .. } if ops > 0.0 => ExactGoal::TotalOps,
             Objective::Mix { .. } => ExactGoal::Width,
             Objective::OpsWithinWidth { max_width } => ExactGoal::OpsWithin(max_width),
@@ -102,7 +109,10 @@ impl Objective {
     pub fn solved_by_exact(&self) -> bool {
         matches!(
             self,
-            Objective::TotalOps | Objective::Width | Objective::OpsWithinWidth { .. }
+            Objective::TotalOps
+                | Objective::Width
+                | Objective::OpWidth
+                | Objective::OpsWithinWidth { .. }
         )
     }
 }
@@ -113,6 +123,7 @@ impl fmt::Display for Objective {
             Objective::TotalOps => f.write_str("ops"),
             Objective::Peak => f.write_str("peak"),
             Objective::Width => f.write_str("width"),
+            Objective::OpWidth => f.write_str("op-width"),
             Objective::Mix { ops, width, peak } => write!(f, "mix:{ops},{width},{peak}"),
             Objective::OpsWithinWidth { max_width } => write!(f, "ops-within:{max_width}"),
         }
@@ -122,9 +133,10 @@ impl fmt::Display for Objective {
 impl FromStr for Objective {
     type Err = String;
 
-    /// Parses `ops`, `peak`, `width`, `mix:A,B,C` or `ops-within:W`.
+    /// Parses `ops`, `peak`, `width`, `op-width`, `mix:A,B,C` or
+    /// `ops-within:W`.
     fn from_str(s: &str) -> Result<Self, Self::Err> {
-        let valid = "valid: ops, peak, width, mix:A,B,C (A x log2 total ops + B x width + C x log2 peak), ops-within:W (least total ops with width <= W)";
+        let valid = "valid: ops, peak, width, op-width (log2 of the largest single contraction), mix:A,B,C (A x log2 total ops + B x width + C x log2 peak), ops-within:W (least total ops with width <= W)";
         let s = s.trim();
         let number = |t: &str, what: &str| -> Result<f64, String> {
             let v: f64 = t
@@ -141,6 +153,7 @@ impl FromStr for Objective {
             "ops" => Ok(Objective::TotalOps),
             "peak" => Ok(Objective::Peak),
             "width" => Ok(Objective::Width),
+            "op-width" => Ok(Objective::OpWidth),
             _ => {
                 if let Some(rest) = s.strip_prefix("mix:") {
                     let parts: Vec<&str> = rest.split(',').collect();
@@ -174,7 +187,14 @@ mod tests {
 
     #[test]
     fn parse_round_trip() {
-        for s in ["ops", "peak", "width", "mix:1,0.5,0", "ops-within:30"] {
+        for s in [
+            "ops",
+            "peak",
+            "width",
+            "op-width",
+            "mix:1,0.5,0",
+            "ops-within:30",
+        ] {
             let o: Objective = s.parse().unwrap();
             assert_eq!(o.to_string(), s);
         }
@@ -189,9 +209,24 @@ mod tests {
         let m = |ops, width| Measures {
             total_ops_log2: ops,
             width,
+            op_width: width,
             peak_log2: None,
         };
         assert!(o.key(&m(50.0, 10.0)) < o.key(&m(20.0, 11.0)));
         assert!(o.key(&m(20.0, 9.0)) < o.key(&m(21.0, 8.0)));
+    }
+
+    #[test]
+    fn op_width_ranks_the_largest_contraction_first() {
+        let m = |ops, op_width| Measures {
+            total_ops_log2: ops,
+            width: 0.0,
+            op_width,
+            peak_log2: None,
+        };
+        let o = Objective::OpWidth;
+        assert!(o.key(&m(40.0, 10.0)) < o.key(&m(20.0, 11.0)));
+        assert!(o.key(&m(20.0, 10.0)) < o.key(&m(21.0, 10.0)));
+        assert_eq!(o.exact_goal(), ExactGoal::OpWidth);
     }
 }

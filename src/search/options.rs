@@ -2,6 +2,8 @@
 
 use std::time::Duration;
 
+use serde::Serialize;
+
 use super::bound::WidthBound;
 use super::objective::{Measures, Objective};
 use crate::cost::Metrics;
@@ -14,7 +16,7 @@ pub const MAX_THREADS: usize = 1024;
 /// Which finders the trials may draw.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct Finders {
-    /// The exact finder as trial 0 on small networks.
+    /// The exact finder as the first candidate on small networks.
     pub exact: bool,
     /// The randomised greedy finder.
     pub greedy: bool,
@@ -55,6 +57,13 @@ pub struct SearchOptions {
     /// Bytes of memory the search may use (the caller reads the host);
     /// `None`: no check.
     pub available_memory: Option<u64>,
+    /// Price the simple orders (file order, breadth-first sweep, min-fill,
+    /// min-degree, nested dissection, plain greedy) before any random
+    /// trial, so the answer is never worse than any of them.
+    pub candidates: bool,
+    /// Let the trials draw elimination orders (min-fill, min-degree) and
+    /// nested dissections besides greedy and partitioning.
+    pub orders: bool,
 }
 
 impl SearchOptions {
@@ -69,6 +78,8 @@ impl SearchOptions {
             finders: Finders::default(),
             simplify: true,
             available_memory: None,
+            candidates: true,
+            orders: true,
         }
     }
 
@@ -102,7 +113,12 @@ impl SearchOptions {
                     self.threads
                 ),
             )),
-            _ if !(self.finders.greedy || self.finders.partition || self.finders.exact) => {
+            _ if !(self.finders.greedy
+                || self.finders.partition
+                || self.finders.exact
+                || self.orders
+                || self.candidates) =>
+            {
                 Err(Error::invalid("finders", "enable at least one finder"))
             }
             _ => Ok(()),
@@ -121,6 +137,38 @@ pub struct Progress {
     pub elapsed: Duration,
     /// Measures of the best tree so far.
     pub best: Option<Measures>,
+}
+
+/// Where the time of a search went (seconds of wall time).
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
+pub struct PhaseTimes {
+    /// Simplifying the network (dropping unit indices, merging parallel
+    /// ones, absorbing small tensors).
+    pub simplify: f64,
+    /// Pricing the simple orders before the trials.
+    pub candidates: f64,
+    /// The randomised trials.
+    pub trials: f64,
+    /// The final subtree reconfiguration of the best trees.
+    pub refine: f64,
+    /// Building the final tree, its metrics and the lower bounds.
+    pub pricing: f64,
+}
+
+/// One of the simple orders priced before the trials, as found.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CandidateScore {
+    /// Its name (`file-order`, `sweep`, `min-fill`, `min-degree`,
+    /// `dissection`, `greedy`, `exact`).
+    pub finder: String,
+    /// log2 of its total ops.
+    pub total_ops_log2: f64,
+    /// Its width.
+    pub width: f64,
+    /// Its op width.
+    pub op_width: f64,
+    /// Seconds it took, pricing included.
+    pub seconds: f64,
 }
 
 /// The outcome of a search.
@@ -144,4 +192,12 @@ pub struct SearchResult {
     pub seconds: f64,
     /// True when the search was stopped early (Ctrl-C).
     pub interrupted: bool,
+    /// A proven lower bound on op width (every tree's largest single
+    /// contraction is at least this, log2).
+    pub op_width_lower_bound: f64,
+    /// Where the time went.
+    pub phases: PhaseTimes,
+    /// The simple orders priced before the trials (those that finished in
+    /// time), in the order they were priced.
+    pub candidates: Vec<CandidateScore>,
 }

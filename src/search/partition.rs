@@ -67,7 +67,7 @@ use super::problem::{splice, Problem};
 const BOUNDARY_TOLERANCE: metis::Real = 1.2;
 
 /// Serialises calls into METIS (see [`bisect`]).
-static METIS_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
+pub(super) static METIS_LOCK: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 /// Parameters of one partitioning run.
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -174,8 +174,121 @@ impl Problem {
 
     /// Prices a merge list: total ops, width and op width in log2.
     pub fn evaluate(&self, merges: &[[usize; 2]]) -> Eval {
-        let nodes = self.node_indices(merges);
-        self.evaluate_nodes(&nodes, merges)
+        self.evaluate_counted(merges).0
+    }
+
+    /// Prices a merge list and counts the index entries of all its nodes
+    /// (the memory a per-node table would take). Operand lists are dropped
+    /// as they are consumed, so memory stays O(lists alive at once) even for
+    /// a left-deep tree of 10^6 tensors whose nodes hold 10^9 entries in all;
+    /// time is O(sum over merges of both operands' list lengths).
+    pub fn evaluate_counted(&self, merges: &[[usize; 2]]) -> (Eval, u64) {
+        let mut holders: Vec<u32> = self.incidence.iter().map(|h| h.len() as u32).collect();
+        let mut nodes: Vec<Vec<u32>> = self.tensors.clone();
+        let mut entries: u64 = nodes.iter().map(|l| l.len() as u64).sum();
+        let mut width = nodes
+            .iter()
+            .map(|l| self.weight_of(l))
+            .fold(f64::NEG_INFINITY, f64::max);
+        let mut total = f64::NEG_INFINITY;
+        let mut op_width = 0.0f64;
+        nodes.reserve(merges.len());
+        for &[a, b] in merges {
+            let (la, lb) = (std::mem::take(&mut nodes[a]), std::mem::take(&mut nodes[b]));
+            let ops = self.union_weight(&la, &lb);
+            total = log2_add(total, ops);
+            op_width = op_width.max(ops);
+            let kept = self.merge_lists(&la, &lb, &mut holders);
+            width = width.max(self.weight_of(&kept));
+            entries += kept.len() as u64;
+            nodes.push(kept);
+        }
+        let eval = Eval {
+            total_ops_log2: total,
+            width,
+            op_width,
+        };
+        (eval, entries)
+    }
+
+    /// Prices the left-deep tree that merges the tensors in `order` (a
+    /// permutation of all tensors) one by one into a running result, in
+    /// O(total index-list length) time and O(indices) memory whatever the
+    /// size of the running result; also returns the index entries its nodes
+    /// would hold. Equal to `evaluate(&left_deep(order))`.
+    pub fn evaluate_sequence(&self, order: &[u32]) -> (Eval, u64) {
+        let mut remaining: Vec<u32> = self.incidence.iter().map(|h| h.len() as u32).collect();
+        let mut inside = vec![false; self.weight.len()];
+        let leaf_width = self
+            .tensors
+            .iter()
+            .map(|l| self.weight_of(l))
+            .fold(f64::NEG_INFINITY, f64::max);
+        let mut entries: u64 = self.tensors.iter().map(|l| l.len() as u64).sum();
+        let (mut total, mut op_width, mut width) = (f64::NEG_INFINITY, 0.0f64, leaf_width);
+        let Some(&first) = order.first() else {
+            return (
+                Eval {
+                    total_ops_log2: total,
+                    width,
+                    op_width,
+                },
+                entries,
+            );
+        };
+        // The running result starts as the first tensor, all its indices
+        // kept (a leaf keeps even an index no other tensor has).
+        let (mut live_w, mut live_n) = (0.0, 0u64);
+        for &e in &self.tensors[first as usize] {
+            inside[e as usize] = true;
+            live_w += self.weight[e as usize];
+            live_n += 1;
+            remaining[e as usize] -= 1;
+        }
+        for (k, &t) in order.iter().enumerate().skip(1) {
+            let list = &self.tensors[t as usize];
+            let mut ops = live_w;
+            for &e in list {
+                if !inside[e as usize] {
+                    ops += self.weight[e as usize];
+                }
+            }
+            total = log2_add(total, ops);
+            op_width = op_width.max(ops);
+            for &e in list {
+                let e = e as usize;
+                remaining[e] -= 1;
+                if !inside[e] {
+                    inside[e] = true;
+                    live_w += self.weight[e];
+                    live_n += 1;
+                }
+            }
+            // An index leaves the result once no unmerged tensor holds it
+            // (and it is not open): those of this tensor, and at the first
+            // merge any the first tensor alone carried.
+            let first_list: &[u32] = if k == 1 {
+                &self.tensors[first as usize]
+            } else {
+                &[]
+            };
+            for &e in list.iter().chain(first_list) {
+                let e = e as usize;
+                if inside[e] && remaining[e] == 0 && !self.open[e] {
+                    inside[e] = false;
+                    live_w -= self.weight[e];
+                    live_n -= 1;
+                }
+            }
+            width = width.max(live_w);
+            entries += live_n;
+        }
+        let eval = Eval {
+            total_ops_log2: total,
+            width,
+            op_width,
+        };
+        (eval, entries)
     }
 
     /// Like [`Problem::evaluate`], with the node index lists already known.
@@ -214,6 +327,17 @@ impl Problem {
     }
 }
 
+/// The left-deep merge list that merges the tensors in `order` (all of
+/// them, each once) one by one into a running result.
+pub fn left_deep(n: usize, order: &[u32]) -> Vec<[usize; 2]> {
+    let mut merges = Vec::with_capacity(order.len().saturating_sub(1));
+    for (k, &t) in order.iter().enumerate().skip(1) {
+        let acc = if k == 1 { order[0] as usize } else { n + k - 2 };
+        merges.push([acc, t as usize]);
+    }
+    merges
+}
+
 /// Replaces the nodes of a finder's merge list for a sub-problem by the
 /// caller's node ids: `leaf_node[i]` is the caller's id of local leaf `i`;
 /// new merges are appended to `out` and the caller's id of the local root is
@@ -249,6 +373,45 @@ mod tests {
         let e = p.evaluate(&[[0, 1]]);
         assert!((e.total_ops_log2.exp2() - 15750.0).abs() < 1e-6);
         assert_eq!(p.node_indices(&[[0, 1]])[2], vec![0, 2]);
+    }
+
+    #[test]
+    fn sequence_pricing_equals_the_general_pricing() {
+        // A ring with a dangling index on one tensor, an open index, a
+        // hyperedge and a scalar: the O(n) sequence pricing must agree
+        // with pricing the left-deep merge list node by node.
+        let p = Problem::new(
+            vec![
+                vec![0, 1, 5],
+                vec![1, 2, 4],
+                vec![2, 3],
+                vec![3, 0, 4],
+                vec![],
+                vec![4, 6],
+            ],
+            vec![1.0, 2.0, 1.5, 1.0, 0.5, 3.0, 1.0],
+            vec![false, false, false, false, false, false, true],
+        );
+        for order in [
+            [0u32, 1, 2, 3, 4, 5],
+            [5, 3, 1, 0, 4, 2],
+            [4, 2, 0, 5, 1, 3],
+        ] {
+            let merges = left_deep(6, &order);
+            let (a, ea) = p.evaluate_counted(&merges);
+            let (b, eb) = p.evaluate_sequence(&order);
+            assert!(
+                (a.total_ops_log2 - b.total_ops_log2).abs() < 1e-12,
+                "{order:?}"
+            );
+            assert_eq!(
+                (a.width, a.op_width, ea),
+                (b.width, b.op_width, eb),
+                "{order:?}"
+            );
+            let nodes = p.node_indices(&merges);
+            assert_eq!(p.evaluate_nodes(&nodes, &merges), a);
+        }
     }
 
     #[test]

@@ -77,6 +77,7 @@ pub(crate) fn goal_key(goal: ExactGoal, e: &Eval) -> (f64, f64) {
     match goal {
         ExactGoal::TotalOps => (e.total_ops_log2, e.width),
         ExactGoal::Width => (e.width, e.total_ops_log2),
+        ExactGoal::OpWidth => (e.op_width, e.total_ops_log2),
         ExactGoal::OpsWithin(cap) => ((e.width - cap).max(0.0), e.total_ops_log2),
     }
 }

@@ -37,6 +37,8 @@ pub struct Simplified {
     pub fixed_ops_log2: f64,
     /// Largest log2 size of the network's tensors and the fixed merges.
     pub fixed_width: f64,
+    /// Largest log2 ops of one fixed merge (0 when none).
+    pub fixed_op_width: f64,
 }
 
 impl Simplified {
@@ -65,6 +67,7 @@ impl Simplified {
             leaves: net.num_tensors(),
             fixed_ops_log2: f64::NEG_INFINITY,
             fixed_width,
+            fixed_op_width: 0.0,
         };
         if absorb {
             s.absorb();
@@ -160,6 +163,7 @@ impl Simplified {
             self.pre.push([node[t], node[u]]);
             node[u] = self.leaves + self.pre.len() - 1;
             self.fixed_ops_log2 = log2_add(self.fixed_ops_log2, ops);
+            self.fixed_op_width = self.fixed_op_width.max(ops);
             self.fixed_width = self.fixed_width.max(size(&kept));
             alive[t] = false;
             lists[t].clear();

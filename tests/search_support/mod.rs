@@ -130,3 +130,38 @@ pub fn chain(dims: &[u64]) -> Network {
     b.open(&names[dims.len() - 1], None).unwrap();
     b.build().unwrap()
 }
+
+/// A graph read the other way round, as in the PACE benchmark: every vertex
+/// an index of dimension 2, every edge a tensor on its two end points. Then
+/// the least op width of any tree is the treewidth + 1 (for treewidth at
+/// least 2; see tests/search_elimination.rs).
+pub fn graph_as_indices(name: &str, n: usize, edges: &[(usize, usize)]) -> Network {
+    let mut b = NetworkBuilder::new(name);
+    let mut id = vec![usize::MAX; n];
+    for (k, &(u, v)) in edges.iter().enumerate() {
+        for x in [u, v] {
+            if id[x] == usize::MAX {
+                id[x] = b.index(&format!("v{x}"), 2).unwrap();
+            }
+        }
+        b.tensor_by_ids(&format!("e{k}"), vec![id[u], id[v]], None)
+            .unwrap();
+    }
+    b.build().unwrap()
+}
+
+/// The edges of the k x k grid graph.
+pub fn grid_edges(k: usize) -> Vec<(usize, usize)> {
+    let mut edges = Vec::new();
+    for x in 0..k {
+        for y in 0..k {
+            if x + 1 < k {
+                edges.push((x * k + y, (x + 1) * k + y));
+            }
+            if y + 1 < k {
+                edges.push((x * k + y, x * k + y + 1));
+            }
+        }
+    }
+    edges
+}
