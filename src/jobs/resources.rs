@@ -112,8 +112,13 @@ pub fn mem_request(need: &MemoryNeed, choice: MemChoice) -> Result<MemRequest> {
         return Err(too_big());
     }
     let need_bytes = total.ceil() as u64;
+    let held = if need.reused_bytes > 0.0 {
+        format!(" + held {}", bytes_human(need.reused_bytes))
+    } else {
+        String::new()
+    };
     let breakdown = format!(
-        "inputs {} + output {} + {} x {} per-slice peak = {}",
+        "inputs {} + output {}{held} + {} x {} per-slice peak = {}",
         bytes_human(need.inputs_bytes),
         bytes_human(need.output_bytes),
         need.slices_at_once,
@@ -169,11 +174,31 @@ pub fn process_need(plan: &Plan, net: &Network) -> Result<MemoryNeed> {
             format!("predicted.per_slice_peak_bytes = '{text}' is not a byte count; write the plan again"),
         )
     })?;
+    // Held slice-invariant intermediates (plans with reuse; "0" or absent
+    // otherwise).
+    let bytes = |t: &str| {
+        t.trim()
+            .parse::<f64>()
+            .ok()
+            .filter(|b| b.is_finite() && *b >= 0.0)
+    };
+    let (reused, setup) = if plan.reuse {
+        (
+            bytes(&plan.predicted.reused_bytes).unwrap_or(0.0),
+            bytes(&plan.predicted.setup_bytes).unwrap_or(0.0),
+        )
+    } else {
+        (0.0, 0.0)
+    };
     Ok(MemoryNeed {
-        inputs_bytes: inputs_bytes(net, plan.dtype),
-        output_bytes: output_bytes(net, plan.dtype),
-        per_slice_peak_bytes: peak,
-        slices_at_once: plan.slices_at_once.max(1),
+        reused_bytes: reused,
+        setup_bytes: setup,
+        ..MemoryNeed::plain(
+            inputs_bytes(net, plan.dtype),
+            output_bytes(net, plan.dtype),
+            peak,
+            plan.slices_at_once.max(1),
+        )
     })
 }
 
@@ -311,12 +336,7 @@ mod tests {
     use super::*;
 
     fn need(peak: f64, at_once: u64) -> MemoryNeed {
-        MemoryNeed {
-            inputs_bytes: 1000.0,
-            output_bytes: 8.0,
-            per_slice_peak_bytes: peak,
-            slices_at_once: at_once,
-        }
+        MemoryNeed::plain(1000.0, 8.0, peak, at_once)
     }
 
     #[test]
