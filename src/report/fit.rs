@@ -63,7 +63,22 @@ pub struct PerSlice {
     pub peak_bytes: f64,
 }
 
-/// A lower bound on the overhead (see [`crate::slicing::bound`]).
+/// A lower bound on the overhead, printed beside the result (text line
+/// `floor`, JSON key `overhead_lower_bound`).
+///
+/// How it is derived ([`crate::slicing::bound`]): on the chosen tree, a
+/// merge m whose operands were summed over sliced indices is repeated for
+/// every value of those indices (with or without reuse, since it varies
+/// with them), so it costs at least ops(m) x their dimensions; and a
+/// process fits only when every node, as one slice holds it, has at most
+/// C elements (the budget less inputs and output), which forces enough
+/// slicing on every large node. A linear programme over "index e is
+/// sliced" (relaxed to 0..1) minimises the largest merge term under those
+/// covering rows; every fitting slice set is a point of it, so its optimum
+/// (plus every other merge at least once) is at most the total ops of any
+/// fitting set on that tree. Over the unsliced total ops (the overhead's
+/// baseline) it bounds the overhead from below. It says nothing of other
+/// trees, and it ignores the sum of live nodes, so it may be loose.
 #[derive(Debug, Clone, Serialize)]
 pub struct OverheadBound {
     /// Every slice set on the chosen tree whose process fits has at least

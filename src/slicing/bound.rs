@@ -145,7 +145,14 @@ pub fn ops_lower_bound(sets: &NodeSets, net: &Network, opts: &SliceOptions) -> O
         .map(|(v, &s)| (v, s - log_cap))
         .collect();
     if cover_rows.is_empty() {
-        return Some(plain);
+        // No node alone is over the cap: x = 0 is feasible and optimal, so
+        // the programme's optimum is the unsliced ops (solved without the
+        // solver). The budget binds through the sum of live nodes, which
+        // this bound does not model.
+        return Some(OpsBound {
+            solved: true,
+            ..plain
+        });
     }
     if cover_rows.len() > MAX_COVER_ROWS || seconds < 0.05 {
         return Some(plain);
