@@ -6,7 +6,7 @@
 //! `scripts/bench-slicing.sh`.
 //!
 //! Usage: `bench-slicing [--time SECONDS] [--seeds N] [--threads T]
-//! [FAMILY-SUBSTRING ...]`.
+//! [--reductions 5,10,15] [FAMILY-SUBSTRING ...]`.
 //!
 //! The budget of a case is the process's fixed part (inputs, output
 //! accumulator) plus the unsliced per-slice peak of a reference tree (a
@@ -48,6 +48,7 @@ struct Row {
 fn main() {
     let mut time = 60.0f64;
     let mut seeds = 5u64;
+    let mut reductions: Vec<u32> = vec![5, 10, 15];
     let mut threads = 0usize;
     let mut which: Vec<String> = Vec::new();
     let mut args = std::env::args().skip(1);
@@ -60,6 +61,16 @@ fn main() {
                     .expect("--time SECONDS")
             }
             "--seeds" => seeds = args.next().and_then(|v| v.parse().ok()).expect("--seeds N"),
+            "--reductions" => {
+                reductions = args
+                    .next()
+                    .map(|v| {
+                        v.split(',')
+                            .map(|r| r.parse().expect("--reductions R,R,..."))
+                            .collect()
+                    })
+                    .expect("--reductions R,R,...")
+            }
             "--threads" => {
                 threads = args
                     .next()
@@ -71,7 +82,7 @@ fn main() {
     }
     let mut cases: Vec<Case> = Vec::new();
     let wanted = |name: &str| which.is_empty() || which.iter().any(|w| name.contains(w.as_str()));
-    for (rows, cols, depth) in [(6, 6, 16), (6, 6, 20), (8, 8, 12), (8, 8, 16)] {
+    for (rows, cols, depth) in [(6, 6, 12), (6, 6, 16), (6, 6, 20), (8, 8, 12), (8, 8, 16)] {
         let family = format!("circuit {rows}x{cols} d{depth}");
         if !wanted(&family) {
             continue;
@@ -116,7 +127,7 @@ fn main() {
             .to_f64()
             * DTYPE.bytes() as f64;
         let fixed = inputs_bytes(&case.net, DTYPE) + output_bytes(&case.net, DTYPE);
-        for reduction in [5u32, 10, 15] {
+        for &reduction in &reductions {
             let budget = (fixed + peak / 2f64.powi(reduction as i32)).ceil() as u64;
             let mut search = SearchOptions::time(Duration::from_secs_f64(time), 1);
             search.threads = threads;
