@@ -164,28 +164,31 @@ pub fn mem_request(need: &MemoryNeed, choice: MemChoice) -> Result<MemRequest> {
 }
 
 /// What one `sliceplan run` process of `plan` needs: the network's inputs
-/// and output in the plan's dtype, and the plan's predicted per-slice peak
-/// times its slices at once.
+/// and output in the plan's dtype, the plan's predicted per-slice peak
+/// times its slices at once and, with reuse, its held intermediates (or
+/// the setup computing them, when more; the rule of `cost::memory`).
 pub fn process_need(plan: &Plan, net: &Network) -> Result<MemoryNeed> {
-    let text = &plan.predicted.per_slice_peak_bytes;
-    let peak: f64 = text.trim().parse().ok().filter(|p: &f64| p.is_finite() && *p >= 0.0).ok_or_else(|| {
-        Error::in_source(
-            "plan",
-            format!("predicted.per_slice_peak_bytes = '{text}' is not a byte count; write the plan again"),
-        )
-    })?;
-    // Held slice-invariant intermediates (plans with reuse; "0" or absent
-    // otherwise).
-    let bytes = |t: &str| {
-        t.trim()
+    let byte_count = |field: &str, text: &str| -> Result<f64> {
+        text.trim()
             .parse::<f64>()
             .ok()
             .filter(|b| b.is_finite() && *b >= 0.0)
+            .ok_or_else(|| {
+                Error::in_source(
+                    "plan",
+                    format!(
+                        "predicted.{field} = '{text}' is not a byte count; write the plan again"
+                    ),
+                )
+            })
     };
+    let peak = byte_count("per_slice_peak_bytes", &plan.predicted.per_slice_peak_bytes)?;
+    // Held slice-invariant intermediates: plans with reuse record them
+    // ("0" when nothing is held); without reuse nothing is held.
     let (reused, setup) = if plan.reuse {
         (
-            bytes(&plan.predicted.reused_bytes).unwrap_or(0.0),
-            bytes(&plan.predicted.setup_bytes).unwrap_or(0.0),
+            byte_count("reused_bytes", &plan.predicted.reused_bytes)?,
+            byte_count("setup_bytes", &plan.predicted.setup_bytes)?,
         )
     } else {
         (0.0, 0.0)

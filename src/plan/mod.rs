@@ -297,6 +297,20 @@ pub fn parse_plan(text: &str, source: &str) -> Result<Plan> {
     if plan.slices_at_once == 0 {
         return Err(bad("slices_at_once is 0; it is at least 1".into()));
     }
+    for (field, text) in [
+        ("reused_bytes", &plan.predicted.reused_bytes),
+        ("setup_bytes", &plan.predicted.setup_bytes),
+    ] {
+        let ok = text
+            .trim()
+            .parse::<f64>()
+            .is_ok_and(|b| b.is_finite() && b >= 0.0);
+        if !ok {
+            return Err(bad(format!(
+                "predicted.{field} = '{text}' is not a byte count (a decimal number of bytes, \"0\" when nothing is held); write the plan again"
+            )));
+        }
+    }
     if !plan.held.is_empty() && !plan.reuse {
         return Err(bad(
             "held lists intermediates but reuse is false; set reuse = true or remove held".into(),
