@@ -83,9 +83,15 @@ fn hex(h: Sha256) -> String {
 
 /// Hashes of side files already read in this process, by path, length and
 /// modification time (a network's fingerprint is asked for several times).
+/// Only files last modified more than [`SETTLED`] ago are remembered: a file
+/// rewritten within the file system's timestamp granularity would otherwise
+/// keep its old hash (the rule version-control tools use for racy entries).
 type FileHashes = HashMap<(PathBuf, u64, Option<SystemTime>), String>;
 
 static FILE_HASHES: Mutex<Option<FileHashes>> = Mutex::new(None);
+
+/// How long ago a side file must have been modified for its hash to be kept.
+const SETTLED: std::time::Duration = std::time::Duration::from_secs(2);
 
 /// The hash of a side file's values (as [`hash_values`] hashes inline
 /// ones), or `unreadable` when the file cannot be read as `.npy` (the
@@ -111,6 +117,13 @@ fn npy_hash(path: &Path) -> String {
         h.update(z.im.to_bits().to_le_bytes());
     }
     let text = hex(h);
+    let settled = key
+        .2
+        .and_then(|t| t.elapsed().ok())
+        .is_some_and(|age| age > SETTLED);
+    if !settled {
+        return text;
+    }
     if let Ok(mut m) = FILE_HASHES.lock() {
         m.get_or_insert_with(HashMap::new).insert(key, text.clone());
     }
