@@ -297,10 +297,12 @@ pub fn parse_plan(text: &str, source: &str) -> Result<Plan> {
     if plan.slices_at_once == 0 {
         return Err(bad("slices_at_once is 0; it is at least 1".into()));
     }
-    for (field, text) in [
+    // Only plans with reuse hold anything; the figures are read then.
+    let held_figures = [
         ("reused_bytes", &plan.predicted.reused_bytes),
         ("setup_bytes", &plan.predicted.setup_bytes),
-    ] {
+    ];
+    for (field, text) in held_figures.into_iter().filter(|_| plan.reuse) {
         let ok = text
             .trim()
             .parse::<f64>()
