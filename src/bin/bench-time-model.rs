@@ -401,6 +401,8 @@ fn one(case: &Case, profile: &Path, threads: usize, work: &Path) -> Result<Row, 
                 output: None,
                 network: None,
                 available_memory: sliceplan::host::available_memory(),
+                // What the plan records, as users run it.
+                reuse: true,
             },
             &quiet,
         )

@@ -368,6 +368,11 @@ pub struct BudgetArgs {
     /// Write the frontier chart as SVG to this file.
     #[arg(long, value_name = "FILE")]
     pub svg: Option<PathBuf>,
+
+    /// Price and plan every slice doing all the work, instead of computing
+    /// the intermediates that are the same in every slice once per process.
+    #[arg(long)]
+    pub no_reuse: bool,
 }
 
 impl BudgetArgs {
@@ -380,6 +385,7 @@ impl BudgetArgs {
         opts.slices_at_once = self.slices_at_once;
         opts.csv = self.csv.clone();
         opts.svg = self.svg.clone();
+        opts.reuse = !self.no_reuse;
     }
 }
 

@@ -75,6 +75,11 @@ pub struct RunArgs {
     #[arg(long, value_name = "NET")]
     network: Option<PathBuf>,
 
+    /// Run every slice whole: do not compute the plan's slice-invariant
+    /// intermediates once and reuse them (same values, more arithmetic).
+    #[arg(long)]
+    no_reuse: bool,
+
     /// Print one JSON object on stdout instead of text.
     #[arg(long)]
     json: bool,
@@ -117,6 +122,7 @@ pub(super) fn run(args: RunArgs) -> Result<Outcome> {
         output: args.output,
         network: args.network,
         available_memory: sliceplan::host::available_memory(),
+        reuse: !args.no_reuse,
     };
     opts.check()?;
     let bars = Bars::new(None, 0);

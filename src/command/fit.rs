@@ -36,6 +36,10 @@ pub struct FitOptions {
     pub csv: Option<PathBuf>,
     /// Write the frontier chart as SVG here.
     pub svg: Option<PathBuf>,
+    /// Compute slice-invariant intermediates once per process and reuse
+    /// them in every slice (default); `false` prices and plans every slice
+    /// doing all the work.
+    pub reuse: bool,
 }
 
 impl FitOptions {
@@ -51,6 +55,7 @@ impl FitOptions {
             slices_at_once: 1,
             csv: None,
             svg: None,
+            reuse: true,
         }
     }
 
@@ -164,6 +169,7 @@ pub(super) fn fit_loaded(
         &found,
         &targets,
         dtype,
+        opts.reuse,
         slicing_time,
         deadline,
         hooks,
@@ -210,16 +216,20 @@ fn share_time(
 }
 
 /// Slices the found tree for every target and builds the fit report.
+#[allow(clippy::too_many_arguments)]
 fn slice_and_report(
     net: &Network,
     found: &Found,
     targets: &[Target],
     dtype: Dtype,
+    reuse: bool,
     slicing_time: Option<Duration>,
     deadline: Option<Instant>,
     hooks: &Hooks<'_>,
 ) -> (FitReport, Vec<Advice>) {
-    let base = SliceOptions::new(targets[0].budget_bytes, dtype);
+    let mut base = SliceOptions::new(targets[0].budget_bytes, dtype);
+    base.reuse = reuse;
+    base.deadline = deadline;
     let calls = REPLANS * targets.len() as u32;
     let mut refit = found.refit(calls, slicing_time, deadline);
     (hooks.progress)(Event::SlicingStarted {

@@ -100,13 +100,16 @@ pub fn memory_profile(
 }
 
 /// The multiply-adds of every step of one slice of `plan`, in its
-/// traversal order.
+/// traversal order (without the merges of held intermediates, which a
+/// process runs once before its first slice).
 pub fn step_costs(plan: &crate::plan::Plan, net: &crate::network::Network) -> Result<StepCosts> {
     let tree = plan.tree()?;
     let sliced = plan.sliced_ids(net)?;
     let sets = NodeSets::new(net, &tree);
     let by_merge = crate::cost::time::steps(&sets, &Dims::sliced(net, &sliced));
-    Ok(StepCosts::new(&by_merge, &plan.order))
+    // The merges of held intermediates run once per process, not per slice.
+    let split = crate::exec::reuse::Split::new(net, &tree, &plan.order, &sliced, &plan.held)?;
+    Ok(StepCosts::new(&by_merge, &split.slice))
 }
 
 fn write_step_charts(

@@ -59,6 +59,9 @@ pub struct RunOptions {
     /// The memory this machine has available now (the caller reads the
     /// host); `None` skips the check.
     pub available_memory: Option<Available>,
+    /// Compute the plan's held slice-invariant intermediates once and
+    /// reuse them in every slice (default); `false` runs every slice whole.
+    pub reuse: bool,
 }
 
 impl RunOptions {
@@ -168,7 +171,10 @@ impl RunOutcome {
 /// Runs `run`.
 pub fn run(opts: &RunOptions, hooks: &Hooks<'_>) -> Result<RunOutcome> {
     opts.check()?;
-    let (plan, net) = open_plan(&opts.plan, opts.network.as_deref())?;
+    let (mut plan, net) = open_plan(&opts.plan, opts.network.as_deref())?;
+    if !opts.reuse {
+        without_reuse(&mut plan, &net)?;
+    }
     let total = plan.slice_count().ok_or_else(|| {
         Error::Cannot("the plan has more than 2^64 slices; no machine can run them".into())
     })?;
@@ -429,6 +435,26 @@ fn check_memory(
         bytes_human(available.bytes as f64),
         available.source
     )))
+}
+
+/// Turns `plan` into one whose slices do all the work (the same
+/// arithmetic, so its partials are interchangeable): no held
+/// intermediates, and the order of least per-slice peak.
+fn without_reuse(plan: &mut Plan, net: &Network) -> Result<()> {
+    if !plan.reuse {
+        return Ok(());
+    }
+    plan.reuse = false;
+    if !plan.held.is_empty() {
+        plan.held.clear();
+        let tree = plan.tree()?;
+        let sliced = plan.sliced_ids(net)?;
+        plan.order = crate::cost::NodeSets::new(net, &tree)
+            .evaluate_sliced(net, &sliced, crate::cost::PeakModel::EXECUTOR)
+            .per_slice
+            .order;
+    }
+    Ok(())
 }
 
 /// The default partials directory: `x.plan.toml` → `x.partials` beside it.

@@ -5,15 +5,29 @@
 //! running at once that slice's peak under [`PeakModel::EXECUTOR`] (sliced
 //! inputs copied in at first use, permuted operand copies, the result, and
 //! the final permute of the root). The plan's budget must cover the sum.
+//!
+//! With reuse of slice-invariant work (see `crate::slicing::reuse`), the
+//! process also holds, for its whole life, the intermediates that are the
+//! same in every slice (`reused_bytes`), and each slice's peak is that of
+//! the rest of the tree, the held intermediates read like inputs. Before
+//! the first slice the process computes those intermediates one after the
+//! other; the most it holds above the inputs then is `setup_bytes`. So a
+//! process needs
+//!
+//! ```text
+//! inputs + output + max(reused + slices at once x per-slice peak, setup)
+//! ```
+//!
+//! and without reuse `reused` and `setup` are 0: the rule above.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 use super::{NodeSets, PeakModel};
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::Count;
 
 /// Bytes one process needs, by part.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 pub struct MemoryNeed {
     /// All full input tensors, held once.
     pub inputs_bytes: f64,
@@ -23,14 +37,41 @@ pub struct MemoryNeed {
     pub per_slice_peak_bytes: f64,
     /// Slices running at once in the process.
     pub slices_at_once: u64,
+    /// Slice-invariant intermediates held for the process's life (0
+    /// without reuse).
+    #[serde(default)]
+    pub reused_bytes: f64,
+    /// The most held above the inputs while those intermediates are
+    /// computed, before the first slice (0 without reuse).
+    #[serde(default)]
+    pub setup_bytes: f64,
 }
 
 impl MemoryNeed {
-    /// The total: inputs + output + slices at once x per-slice peak.
+    /// A need without reuse: inputs, output, slices at once x per-slice peak.
+    pub fn plain(
+        inputs_bytes: f64,
+        output_bytes: f64,
+        per_slice_peak_bytes: f64,
+        slices_at_once: u64,
+    ) -> MemoryNeed {
+        MemoryNeed {
+            inputs_bytes,
+            output_bytes,
+            per_slice_peak_bytes,
+            slices_at_once,
+            reused_bytes: 0.0,
+            setup_bytes: 0.0,
+        }
+    }
+
+    /// The total: inputs + output + max(reused + slices at once x per-slice
+    /// peak, setup).
     pub fn total_bytes(&self) -> f64 {
         self.inputs_bytes
             + self.output_bytes
-            + self.slices_at_once as f64 * self.per_slice_peak_bytes
+            + (self.reused_bytes + self.slices_at_once as f64 * self.per_slice_peak_bytes)
+                .max(self.setup_bytes)
     }
 
     /// The part that slicing cannot reduce (inputs and output).
@@ -72,7 +113,8 @@ pub fn per_slice_peak(sets: &NodeSets, net: &Network, sliced: &[IndexId]) -> Cou
         .peak
 }
 
-/// What a process running `at_once` slices with slice set `sliced` needs.
+/// What a process running `at_once` slices with slice set `sliced` needs,
+/// without reuse.
 pub fn memory_need(
     sets: &NodeSets,
     net: &Network,
@@ -80,10 +122,10 @@ pub fn memory_need(
     dtype: Dtype,
     at_once: u64,
 ) -> MemoryNeed {
-    MemoryNeed {
-        inputs_bytes: inputs_bytes(net, dtype),
-        output_bytes: output_bytes(net, dtype),
-        per_slice_peak_bytes: per_slice_peak(sets, net, sliced).to_f64() * dtype.bytes() as f64,
-        slices_at_once: at_once,
-    }
+    MemoryNeed::plain(
+        inputs_bytes(net, dtype),
+        output_bytes(net, dtype),
+        per_slice_peak(sets, net, sliced).to_f64() * dtype.bytes() as f64,
+        at_once,
+    )
 }

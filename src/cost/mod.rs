@@ -186,6 +186,27 @@ impl NodeSets {
         }
     }
 
+    /// A node set from its parts, for a tree derived from another one (such
+    /// as the tree with the subtrees of slice-invariant intermediates cut
+    /// off, their roots as leaves: `crate::slicing::reuse`). Nodes
+    /// `0..leaves` are leaves, merge k makes node `leaves + k` from earlier
+    /// nodes; `indices` has one sorted list per node, `unions` one per merge.
+    pub fn from_parts(
+        leaves: usize,
+        merges: Vec<[usize; 2]>,
+        indices: Vec<Vec<IndexId>>,
+        unions: Vec<Vec<IndexId>>,
+    ) -> NodeSets {
+        assert!(leaves >= 1 && merges.len() + 1 == leaves);
+        assert!(indices.len() == leaves + merges.len() && unions.len() == merges.len());
+        NodeSets {
+            leaves,
+            merges,
+            indices,
+            unions,
+        }
+    }
+
     /// Number of leaves.
     pub fn leaves(&self) -> usize {
         self.leaves

@@ -29,6 +29,7 @@ pub mod pairwise;
 pub mod permute;
 pub mod render;
 pub mod report;
+pub mod reuse;
 pub mod runner;
 pub mod scalar;
 pub mod scale;

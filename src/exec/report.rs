@@ -376,6 +376,16 @@ pub fn run_text(r: &RunReport, dir: &str) -> String {
         m.plan_predicted_per_slice,
         bytes_human(m.measured_per_slice as f64)
     );
+    if m.held_intermediates > 0 {
+        let _ = writeln!(
+            s,
+            "reuse: {} slice-invariant intermediate(s) computed once and held: predicted {}, setup predicted at most {}, measured {}",
+            m.held_intermediates,
+            bytes_human(m.predicted_reused as f64),
+            bytes_human(m.predicted_setup as f64),
+            bytes_human(m.measured_setup as f64)
+        );
+    }
     let _ = writeln!(
         s,
         "process: inputs {} (held once, not in the per-slice figure), running sum {}, tracked peak {}, maximum resident size {}",

@@ -96,11 +96,20 @@ pub struct MemoryFigures {
     pub inputs: u64,
     /// The chunk's running sum at its largest.
     pub accumulator: u64,
-    /// The most the process held by the executor's count (inputs plus the
-    /// slices running at once).
+    /// The most the process held by the executor's count (inputs, held
+    /// intermediates and the slices running at once).
     pub tracked_process_peak: u64,
     /// The process's maximum resident size at the end (VmHWM), when known.
     pub max_resident: Option<u64>,
+    /// Slice-invariant intermediates computed once and held (0 without
+    /// reuse).
+    pub held_intermediates: usize,
+    /// Their bytes by the cost model.
+    pub predicted_reused: u64,
+    /// The most the setup (computing them) may hold by the cost model.
+    pub predicted_setup: u64,
+    /// The most the setup held, by the executor's own count.
+    pub measured_setup: u64,
 }
 
 /// What a run did.
@@ -166,11 +175,19 @@ pub fn slices_at_once(plan: &Plan, threads: usize) -> usize {
 /// Bytes a process running `plan` with `threads` threads is predicted to
 /// hold at most: the full inputs once, the output accumulator, and the
 /// per-slice peak (for the plan's own order) for each slice running at
-/// once. `None` beyond 2^64.
+/// once; with reuse, also the held intermediates, or the setup that
+/// computes them when that is more. `None` beyond 2^64.
 pub fn predicted_process_bytes(plan: &Plan, net: &Network, threads: usize) -> Option<u64> {
     let tree = plan.tree().ok()?;
     let sliced = plan.sliced_ids(net).ok()?;
-    let per_slice = predicted_slice_peak_bytes(net, &tree, &plan.order, &sliced, plan.dtype)?;
+    // A network the executor refuses (no values, say) is refused with its
+    // own message by the run; price it as floating point meanwhile.
+    let float = Numerics::for_network(net, plan.dtype)
+        .map_or(true, |n| matches!(n.arithmetic, Arithmetic::Float));
+    let (split, _) = split_for(plan, net, &tree, &sliced, float).ok()?;
+    let per_slice = super::reuse::slice_peak_bytes(net, &tree, &split, &sliced, plan.dtype)?;
+    let held = super::reuse::held_bytes(net, &tree, &split, plan.dtype)?;
+    let setup = super::reuse::setup_peak_bytes(net, &tree, &split, plan.dtype)?;
     let fixed = crate::cost::memory::inputs_bytes(net, plan.dtype)
         + crate::cost::memory::output_bytes(net, plan.dtype);
     let fixed = if fixed < u64::MAX as f64 {
@@ -178,9 +195,40 @@ pub fn predicted_process_bytes(plan: &Plan, net: &Network, threads: usize) -> Op
     } else {
         return None;
     };
-    per_slice
+    let slices = per_slice
         .checked_mul(slices_at_once(plan, threads) as u64)?
-        .checked_add(fixed)
+        .checked_add(held)?;
+    slices.max(setup).checked_add(fixed)
+}
+
+/// How a run splits the plan's traversal: with reuse (the plan's held
+/// intermediates, floating-point arithmetic), setup and per-slice parts of
+/// the plan's order; otherwise every merge per slice, in the plan's order,
+/// or, for a plan with held intermediates run without them (modular
+/// arithmetic keeps nothing across primes), in the order of least
+/// per-slice peak. Returns the split and the whole order.
+fn split_for(
+    plan: &Plan,
+    net: &Network,
+    tree: &Tree,
+    sliced: &[IndexId],
+    float: bool,
+) -> Result<(super::reuse::Split, Vec<usize>)> {
+    if plan.reuse && !plan.held.is_empty() {
+        if float {
+            let split = super::reuse::Split::new(net, tree, &plan.order, sliced, &plan.held)?;
+            return Ok((split, plan.order.clone()));
+        }
+        let order = NodeSets::new(net, tree)
+            .evaluate_sliced(net, sliced, PeakModel::EXECUTOR)
+            .per_slice
+            .order;
+        return Ok((super::reuse::Split::none(tree, &order), order));
+    }
+    Ok((
+        super::reuse::Split::none(tree, &plan.order),
+        plan.order.clone(),
+    ))
 }
 
 /// Runs `jobs` of `plan` on `net` with faer's multiply.
@@ -488,20 +536,50 @@ fn run_typed<T: Scalar, K: MatMul>(
         .ok_or_else(|| Error::Cannot("the plan has more than 2^64 slices".into()))?;
     let tree = plan.tree()?;
     let sliced = plan.sliced_ids(net)?;
-    let limit = predicted_slice_peak_bytes(net, &tree, &plan.order, &sliced, plan.dtype)
-        .ok_or_else(|| {
-            Error::Cannot(
-                "one slice of this plan needs more than 2^64 bytes; it cannot be run".into(),
-            )
-        })?;
+    let float = matches!(numerics.arithmetic, Arithmetic::Float);
+    let (split, order) = split_for(plan, net, &tree, &sliced, float)?;
+    let too_big = || {
+        Error::Cannot("one slice of this plan needs more than 2^64 bytes; it cannot be run".into())
+    };
+    let limit = super::reuse::slice_peak_bytes(net, &tree, &split, &sliced, plan.dtype)
+        .ok_or_else(too_big)?;
+    let setup_limit =
+        super::reuse::setup_peak_bytes(net, &tree, &split, plan.dtype).ok_or_else(too_big)?;
+    let predicted_reused =
+        super::reuse::held_bytes(net, &tree, &split, plan.dtype).ok_or_else(too_big)?;
     let fingerprint = plan.fingerprint();
     let layout = OutputLayout::new(net, &sliced);
     let started = Instant::now();
     let process = Meter::new();
+    let mut prepared = Prepared::<T>::new(net, &tree, &order, &sliced, &process)?;
+    // The slice-invariant intermediates: computed once, before any slice,
+    // on their own meter (a child of the process's), and kept.
+    let measured_setup = if split.held.is_empty() {
+        0
+    } else {
+        let meter = Meter::child(&process);
+        let ctx = Context {
+            mm,
+            meter: &meter,
+            threads: options.threads.max(1),
+            kernel: if numerics.scaled {
+                Kernel::Scaled
+            } else {
+                Kernel::Unscaled
+            },
+        };
+        let peak = prepared.hold(&ctx, &split);
+        if peak > setup_limit {
+            return Err(Error::Cannot(format!(
+                "computing the held intermediates took {peak} bytes, more than the {setup_limit} bytes the cost model predicts; the executor broke its memory rule (a bug: please report it with the plan)"
+            )));
+        }
+        peak
+    };
     let setup = Setup {
         mm,
         plan,
-        prepared: Prepared::<T>::new(net, &tree, &plan.order, &sliced, &process)?,
+        prepared,
         layout,
         process,
         limit,
@@ -585,6 +663,10 @@ fn run_typed<T: Scalar, K: MatMul>(
             accumulator: acc_bytes,
             tracked_process_peak: setup.process.peak(),
             max_resident: max_resident_bytes(),
+            held_intermediates: split.held.len(),
+            predicted_reused,
+            predicted_setup: setup_limit,
+            measured_setup,
         },
         numerics: numerics.clone(),
     })

@@ -41,6 +41,8 @@ pub struct Prepared<T> {
     inputs: Vec<Held<T>>,
     /// Per input tensor: the power of two its stored values are multiplied by.
     input_exps: Vec<i64>,
+    /// Per node: the held intermediate, computed once (reuse).
+    held: Vec<Option<Dense<T>>>,
 }
 
 impl<T: Scalar> Prepared<T> {
@@ -106,7 +108,28 @@ impl<T: Scalar> Prepared<T> {
             sliced: sliced.to_vec(),
             inputs,
             input_exps,
+            held: Vec::new(),
         })
+    }
+
+    /// Computes the setup merges of `split` once, in their order, keeps the
+    /// held intermediates (counted on `ctx.meter` while they live), and
+    /// leaves each slice the per-slice merges. Returns the most bytes
+    /// `ctx.meter` held during the setup.
+    pub fn hold<K: MatMul>(&mut self, ctx: &Context<'_, K>, split: &super::reuse::Split) -> u64 {
+        let n = self.leaves;
+        let mut slots: Vec<Option<Dense<T>>> = (0..n + self.merges.len()).map(|_| None).collect();
+        // Setup merges see no sliced index: any values do.
+        let values = vec![0u64; self.sliced.len()];
+        for &k in &split.setup {
+            let [a, b] = self.merges[k];
+            let oa = self.operand(a, &values, &mut slots);
+            let ob = self.operand(b, &values, &mut slots);
+            slots[n + k] = Some(contract(ctx, oa, ob, &self.keep[n + k]));
+        }
+        self.held = slots;
+        self.order = split.slice.clone();
+        ctx.meter.peak()
     }
 
     /// Bytes held by the shared inputs.
@@ -150,6 +173,8 @@ impl<T: Scalar> Prepared<T> {
     fn operand(&self, v: usize, values: &[u64], slots: &mut [Option<Dense<T>>]) -> Operand<'_, T> {
         if v < self.leaves {
             Operand::Borrowed(self.leaf_view(v, values))
+        } else if let Some(held) = self.held.get(v).and_then(Option::as_ref) {
+            Operand::Borrowed(held.view())
         } else {
             Operand::Owned(slots[v].take().expect("operands exist before use"))
         }

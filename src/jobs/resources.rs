@@ -113,8 +113,13 @@ pub fn mem_request(need: &MemoryNeed, choice: MemChoice) -> Result<MemRequest> {
         return Err(too_big());
     }
     let need_bytes = total.ceil() as u64;
+    let held = if need.reused_bytes > 0.0 {
+        format!(" + held {}", bytes_human(need.reused_bytes))
+    } else {
+        String::new()
+    };
     let breakdown = format!(
-        "inputs {} + output {} + {} x {} per-slice peak = {}",
+        "inputs {} + output {}{held} + {} x {} per-slice peak = {}",
         bytes_human(need.inputs_bytes),
         bytes_human(need.output_bytes),
         need.slices_at_once,
@@ -160,21 +165,44 @@ pub fn mem_request(need: &MemoryNeed, choice: MemChoice) -> Result<MemRequest> {
 }
 
 /// What one `sliceplan run` process of `plan` needs: the network's inputs
-/// and output in the plan's dtype, and the plan's predicted per-slice peak
-/// times its slices at once.
+/// and output in the plan's dtype, the plan's predicted per-slice peak
+/// times its slices at once and, with reuse, its held intermediates (or
+/// the setup computing them, when more; the rule of `cost::memory`).
 pub fn process_need(plan: &Plan, net: &Network) -> Result<MemoryNeed> {
-    let text = &plan.predicted.per_slice_peak_bytes;
-    let peak: f64 = text.trim().parse().ok().filter(|p: &f64| p.is_finite() && *p >= 0.0).ok_or_else(|| {
-        Error::in_source(
-            "plan",
-            format!("predicted.per_slice_peak_bytes = '{text}' is not a byte count; write the plan again"),
+    let byte_count = |field: &str, text: &str| -> Result<f64> {
+        text.trim()
+            .parse::<f64>()
+            .ok()
+            .filter(|b| b.is_finite() && *b >= 0.0)
+            .ok_or_else(|| {
+                Error::in_source(
+                    "plan",
+                    format!(
+                        "predicted.{field} = '{text}' is not a byte count; write the plan again"
+                    ),
+                )
+            })
+    };
+    let peak = byte_count("per_slice_peak_bytes", &plan.predicted.per_slice_peak_bytes)?;
+    // Held slice-invariant intermediates: plans with reuse record them
+    // ("0" when nothing is held); without reuse nothing is held.
+    let (reused, setup) = if plan.reuse {
+        (
+            byte_count("reused_bytes", &plan.predicted.reused_bytes)?,
+            byte_count("setup_bytes", &plan.predicted.setup_bytes)?,
         )
-    })?;
+    } else {
+        (0.0, 0.0)
+    };
     Ok(MemoryNeed {
-        inputs_bytes: inputs_bytes(net, plan.dtype),
-        output_bytes: output_bytes(net, plan.dtype),
-        per_slice_peak_bytes: peak,
-        slices_at_once: plan.slices_at_once.max(1),
+        reused_bytes: reused,
+        setup_bytes: setup,
+        ..MemoryNeed::plain(
+            inputs_bytes(net, plan.dtype),
+            output_bytes(net, plan.dtype),
+            peak,
+            plan.slices_at_once.max(1),
+        )
     })
 }
 
@@ -343,12 +371,7 @@ mod tests {
     use super::*;
 
     fn need(peak: f64, at_once: u64) -> MemoryNeed {
-        MemoryNeed {
-            inputs_bytes: 1000.0,
-            output_bytes: 8.0,
-            per_slice_peak_bytes: peak,
-            slices_at_once: at_once,
-        }
+        MemoryNeed::plain(1000.0, 8.0, peak, at_once)
     }
 
     #[test]

@@ -54,6 +54,8 @@ pub struct Advice {
     pub result: SliceResult,
     /// The time estimate, when the target is a machine.
     pub estimate: Option<Estimate>,
+    /// Whether the figures count slice-invariant work once (reuse).
+    pub reuse: bool,
 }
 
 impl Advice {
@@ -70,7 +72,8 @@ impl Advice {
 
 /// Runs the slicing search for every target and estimates times on the
 /// machine targets. `base` carries the search settings; its budget and
-/// slices at once are replaced by each target's.
+/// slices at once are replaced by each target's, and the time left before
+/// its deadline is shared equally by the targets still to do.
 pub fn advise(
     net: &Network,
     tree: &crate::tree::Tree,
@@ -79,34 +82,70 @@ pub fn advise(
     mut refit: Option<&mut Refit<'_>>,
     rounds: usize,
 ) -> Vec<Advice> {
-    targets
-        .iter()
-        .map(|target| {
-            let mut opts = base.clone();
-            opts.budget_bytes = target.budget_bytes;
-            opts.slices_at_once = target.slices_at_once;
-            let result = find_slices(net, tree, &opts, refit.as_deref_mut(), rounds);
-            let estimate = target.machine.as_ref().map(|m| {
-                let sets = NodeSets::new(net, &result.tree);
-                let (sliced, slices) = match &result.chosen {
-                    Some((p, _)) => (p.sliced.clone(), p.slices.to_f64()),
-                    None => (Vec::new(), 1.0),
-                };
-                estimate(&sets, &Dims::sliced(net, &sliced), slices, base.dtype, m)
-            });
-            Advice {
-                target: target.clone(),
-                result,
-                estimate,
+    let mut out = Vec::with_capacity(targets.len());
+    for (i, target) in targets.iter().enumerate() {
+        let mut opts = base.clone();
+        opts.budget_bytes = target.budget_bytes;
+        opts.slices_at_once = target.slices_at_once;
+        if let Some(d) = base.deadline {
+            let now = std::time::Instant::now();
+            let left = d.saturating_duration_since(now);
+            opts.deadline = Some(now + left / (targets.len() - i) as u32);
+        }
+        let result = find_slices(net, tree, &opts, refit.as_deref_mut(), rounds);
+        let estimate = target.machine.as_ref().map(|m| {
+            let sets = NodeSets::new(net, &result.tree);
+            match &result.chosen {
+                Some((p, _)) => estimate_point(&sets, net, p, base.dtype, m),
+                None => estimate(&sets, &Dims::of(net), 1.0, base.dtype, m),
             }
-        })
-        .collect()
+        });
+        out.push(Advice {
+            target: target.clone(),
+            result,
+            estimate,
+            reuse: base.reuse,
+        });
+    }
+    out
 }
+
+/// The time estimate of a priced slice set: the machine model per slice;
+/// with held intermediates, their work once per node and the rest per
+/// slice.
+pub fn estimate_point(
+    sets: &NodeSets,
+    net: &Network,
+    p: &Point,
+    dtype: Dtype,
+    m: &Machine,
+) -> Estimate {
+    let dims = Dims::sliced(net, &p.sliced);
+    let slices = p.slices.to_f64();
+    let whole = estimate(sets, &dims, slices, dtype, m);
+    if p.held.is_empty() {
+        return whole;
+    }
+    let cut = crate::slicing::reuse::collapse(sets, &p.held);
+    let part = estimate(&cut.sets, &dims, slices, dtype, m);
+    let once = (whole.seconds_per_slice - part.seconds_per_slice).max(0.0);
+    let wall = once + part.wall_seconds;
+    Estimate {
+        wall_seconds: wall,
+        node_hours: wall * part.nodes_used as f64 / 3600.0,
+        method: format!("{}; {REUSE_METHOD}", part.method),
+        ..part
+    }
+}
+
+/// What the estimate says about reuse.
+pub const REUSE_METHOD: &str =
+    "with reuse, the slice-invariant work once per node before its slices, the rest per slice";
 
 impl Advice {
     /// Rebuilds the advice a plan was made from, without searching: the
-    /// tree and slice set are priced again; the frontier, cover bound and
-    /// estimate are the ones stored in the plan.
+    /// tree, slice set and held intermediates are priced again; the
+    /// frontier, cover bound and estimate are the ones stored in the plan.
     pub fn from_plan(net: &Network, plan: &Plan) -> crate::Result<Advice> {
         plan.check_against(net)?;
         let tree = plan.tree()?;
@@ -114,14 +153,16 @@ impl Advice {
         let sliced = plan.sliced_ids(net)?;
         let mut opts = SliceOptions::new(plan.budget_bytes, plan.dtype);
         opts.slices_at_once = plan.slices_at_once;
-        let mut unsliced = Point::evaluate(&sets, net, &[], &opts);
+        opts.reuse = plan.reuse;
+        let mut unsliced = Point::evaluate_held(&sets, net, &[], &[], &opts);
         if plan.predicted.baseline_total_ops_log2 > 0.0
             && (plan.predicted.baseline_total_ops_log2 - unsliced.total_ops.log2).abs() > 1e-9
         {
             unsliced.total_ops =
                 crate::num::Count::from_log2(plan.predicted.baseline_total_ops_log2);
+            unsliced.plain_total_ops = unsliced.total_ops;
         }
-        let chosen = Point::evaluate(&sets, net, &sliced, &opts);
+        let chosen = Point::evaluate_held(&sets, net, &sliced, &plan.held, &opts);
         let origin: Origin =
             serde_json::from_value(serde_json::Value::String(plan.predicted.found_by.clone()))
                 .unwrap_or(Origin::Greedy);
@@ -145,8 +186,10 @@ impl Advice {
                 unsliced,
                 frontier: plan.frontier.clone(),
                 cover: plan.cover.clone(),
+                bound: plan.ops_bound.clone(),
             },
             estimate: plan.estimate.clone(),
+            reuse: plan.reuse,
         })
     }
 }
@@ -172,6 +215,20 @@ pub fn make_plan(
     );
     plan.slices_at_once = advice.target.slices_at_once;
     plan.seed = seed;
+    // The slice set as priced: with reuse, the held intermediates, the
+    // order that computes them first, and the per-slice figures of the rest.
+    let bytes = crate::num::Count::from_u128(dtype.bytes() as u128);
+    plan.reuse = advice.reuse;
+    plan.held = point.held.clone();
+    plan.order = point.order.clone();
+    plan.predicted.per_slice_total_ops_log2 = point.per_slice_total_ops.log2;
+    plan.predicted.per_slice_width = point.per_slice_width;
+    plan.predicted.per_slice_peak_bytes = (point.per_slice_peak * bytes).to_json_string();
+    plan.predicted.total_ops_log2 = point.total_ops.log2;
+    plan.predicted.plain_total_ops_log2 = point.plain_total_ops.log2;
+    plan.predicted.reused_bytes = format!("{:.0}", point.need.reused_bytes);
+    plan.predicted.setup_bytes = format!("{:.0}", point.need.setup_bytes);
+    plan.ops_bound = advice.result.bound.clone();
     // The overhead is against the starting tree's unsliced ops (the search's
     // best), which co-optimisation may have replaced.
     let baseline = advice.result.unsliced.total_ops.log2;

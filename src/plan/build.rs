@@ -67,6 +67,8 @@ impl Plan {
             budget_bytes,
             slices_at_once,
             seed: 0,
+            reuse: false,
+            held: Vec::new(),
             predicted: Predicted {
                 per_slice_total_ops_log2: s.per_slice.total_ops.log2,
                 per_slice_width: s.per_slice.width,
@@ -76,11 +78,15 @@ impl Plan {
                 baseline_total_ops_log2: whole.total_ops.log2,
                 found_by: String::new(),
                 tree_source: String::new(),
+                plain_total_ops_log2: s.total_ops.log2,
+                reused_bytes: "0".into(),
+                setup_bytes: "0".into(),
             },
             frontier: Vec::new(),
             cover: None,
             estimate: None,
             lower_bound_width: None,
+            ops_bound: None,
         }
     }
 }

@@ -18,6 +18,7 @@ use sha2::{Digest, Sha256};
 use crate::cost::machine::Estimate;
 use crate::error::{Error, Result};
 use crate::network::{Dtype, IndexId, Network};
+use crate::slicing::bound::OpsBound;
 use crate::slicing::{CoverReport, FrontierRow};
 use crate::tree::Tree;
 
@@ -59,6 +60,22 @@ pub struct Predicted {
     /// Where the tree came from.
     #[serde(default)]
     pub tree_source: String,
+    /// log2 total ops when every slice repeats the slice-invariant work
+    /// (equal to `total_ops_log2` without reuse; 0 in plans from before).
+    #[serde(default)]
+    pub plain_total_ops_log2: f64,
+    /// Bytes of the slice-invariant intermediates a process holds, decimal
+    /// ("0" without reuse).
+    #[serde(default = "zero_text")]
+    pub reused_bytes: String,
+    /// The most a process holds above its inputs while computing them,
+    /// decimal ("0" without reuse).
+    #[serde(default = "zero_text")]
+    pub setup_bytes: String,
+}
+
+fn zero_text() -> String {
+    "0".into()
 }
 
 /// A contraction plan.
@@ -93,6 +110,15 @@ pub struct Plan {
     pub slices_at_once: u64,
     /// Seed of the search that produced the tree.
     pub seed: u64,
+    /// Whether slice-invariant intermediates are computed once per process
+    /// and held (`held`), rather than in every slice. Plans from before
+    /// reuse read as `false`.
+    #[serde(default)]
+    pub reuse: bool,
+    /// The held intermediates (node ids: merge k is node `tensors + k`), in
+    /// the order a process computes them; their merges open `order`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub held: Vec<usize>,
     /// Predicted costs.
     pub predicted: Predicted,
     /// The slices-versus-ops frontier met by the search.
@@ -107,6 +133,10 @@ pub struct Plan {
     /// The proven lower bound on width, when computed.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub lower_bound_width: Option<f64>,
+    /// The lower bound on the total ops of every fitting slice set on the
+    /// plan's tree, when computed.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ops_bound: Option<OpsBound>,
 }
 
 impl Plan {
@@ -267,6 +297,36 @@ pub fn parse_plan(text: &str, source: &str) -> Result<Plan> {
     if plan.slices_at_once == 0 {
         return Err(bad("slices_at_once is 0; it is at least 1".into()));
     }
+    // Only plans with reuse hold anything; the figures are read then.
+    let held_figures = [
+        ("reused_bytes", &plan.predicted.reused_bytes),
+        ("setup_bytes", &plan.predicted.setup_bytes),
+    ];
+    for (field, text) in held_figures.into_iter().filter(|_| plan.reuse) {
+        let ok = text
+            .trim()
+            .parse::<f64>()
+            .is_ok_and(|b| b.is_finite() && b >= 0.0);
+        if !ok {
+            return Err(bad(format!(
+                "predicted.{field} = '{text}' is not a byte count (a decimal number of bytes, \"0\" when nothing is held); write the plan again"
+            )));
+        }
+    }
+    if !plan.held.is_empty() && !plan.reuse {
+        return Err(bad(
+            "held lists intermediates but reuse is false; set reuse = true or remove held".into(),
+        ));
+    }
+    for (k, &h) in plan.held.iter().enumerate() {
+        if h < plan.tensors || h >= tree.num_nodes() || plan.held[..k].contains(&h) {
+            return Err(bad(format!(
+                "held node {h} is not an intermediate of the tree (nodes {}..{}) or is listed twice",
+                plan.tensors,
+                tree.num_nodes()
+            )));
+        }
+    }
     Ok(plan)
 }
 
@@ -309,11 +369,14 @@ mod tests {
             budget_bytes: 1 << 20,
             slices_at_once: 1,
             seed: 0,
+            reuse: false,
+            held: Vec::new(),
             predicted: Predicted::default(),
             frontier: Vec::new(),
             cover: None,
             estimate: None,
             lower_bound_width: None,
+            ops_bound: None,
         }
     }
 

@@ -33,6 +33,19 @@ pub struct SlicingReport {
     pub total_ops_log2: f64,
     /// Total ops with slicing over total ops without.
     pub overhead: f64,
+    /// Whether the figures count slice-invariant work once per process
+    /// (held intermediates) rather than in every slice.
+    pub reuse: bool,
+    /// Total ops if every slice repeated the slice-invariant work, log2.
+    pub plain_total_ops_log2: f64,
+    /// Those over total ops without slicing.
+    pub plain_overhead: f64,
+    /// Intermediates computed once per process and held.
+    pub held_intermediates: usize,
+    /// Their bytes.
+    pub reused_bytes: f64,
+    /// Ops of the work done once, log2 (absent when none is).
+    pub invariant_ops_log2: Option<f64>,
     /// Which search found it.
     pub found_by: Origin,
     /// The fewest slices of any fitting set found, decimal.
@@ -49,6 +62,41 @@ pub struct PerSlice {
     /// Peak bytes of one slice (executor model, workspace included).
     pub peak_bytes: f64,
 }
+
+/// A lower bound on the overhead, printed beside the result (text line
+/// `floor`, JSON key `overhead_lower_bound`).
+///
+/// How it is derived ([`crate::slicing::bound`]): on the chosen tree, a
+/// merge m whose operands were summed over sliced indices is repeated for
+/// every value of those indices (with or without reuse, since it varies
+/// with them), so it costs at least ops(m) x their dimensions; and a
+/// process fits only when every node, as one slice holds it, has at most
+/// C elements (the budget less inputs and output), which forces enough
+/// slicing on every large node. A linear programme over "index e is
+/// sliced" (relaxed to 0..1) minimises the largest merge term under those
+/// covering rows; every fitting slice set is a point of it, so its optimum
+/// (plus every other merge at least once) is at most the total ops of any
+/// fitting set on that tree. Over the unsliced total ops (the overhead's
+/// baseline) it bounds the overhead from below. It says nothing of other
+/// trees, and it ignores the sum of live nodes, so it may be loose.
+#[derive(Debug, Clone, Serialize)]
+pub struct OverheadBound {
+    /// Every slice set on the chosen tree whose process fits has at least
+    /// 2^this total ops (with or without reuse).
+    pub total_ops_log2: f64,
+    /// That over the unsliced total ops (the overhead's baseline).
+    pub overhead: f64,
+    /// The largest node a slice may hold in the programme, elements.
+    pub cap_elements: f64,
+    /// True when the linear programme was solved; false when only the
+    /// tree's own unsliced ops are claimed.
+    pub solved: bool,
+    /// What it bounds, in words.
+    pub bounds: String,
+}
+
+/// What the overhead bound bounds (for JSON and text).
+pub const OVERHEAD_BOUND_SCOPE: &str = "every slice set on the chosen tree whose process fits the budget, with or without reuse; other trees may do better";
 
 /// One row of the machine comparison.
 #[derive(Debug, Clone, Serialize)]
@@ -121,6 +169,10 @@ pub struct FitReport {
     /// The cover programme's bound.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub cover: Option<CoverReport>,
+    /// The lower bound on overhead of every fitting slice set on the
+    /// chosen tree, when slicing is needed.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub overhead_lower_bound: Option<OverheadBound>,
     /// The time estimate on the first machine.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub estimate: Option<Estimate>,
@@ -138,6 +190,10 @@ pub struct MemoryReport {
     pub output_bytes: f64,
     /// One slice's peak.
     pub per_slice_peak_bytes: f64,
+    /// Slice-invariant intermediates held for the process's life.
+    pub reused_bytes: f64,
+    /// The most held above the inputs while computing them.
+    pub setup_bytes: f64,
     /// The total for the slices running at once.
     pub process_bytes: f64,
 }
@@ -148,6 +204,8 @@ impl From<MemoryNeed> for MemoryReport {
             inputs_bytes: m.inputs_bytes,
             output_bytes: m.output_bytes,
             per_slice_peak_bytes: m.per_slice_peak_bytes,
+            reused_bytes: m.reused_bytes,
+            setup_bytes: m.setup_bytes,
             process_bytes: m.total_bytes(),
         }
     }
@@ -184,6 +242,12 @@ impl FitReport {
             total_ops: p.total_ops.to_json_string(),
             total_ops_log2: p.total_ops.log2,
             overhead: crate::num::overhead(p.total_ops.log2, r.unsliced.total_ops.log2),
+            reuse: head.reuse,
+            plain_total_ops_log2: p.plain_total_ops.log2,
+            plain_overhead: crate::num::overhead(p.plain_total_ops.log2, r.unsliced.total_ops.log2),
+            held_intermediates: p.held.len(),
+            reused_bytes: p.need.reused_bytes,
+            invariant_ops_log2: (!p.held.is_empty()).then_some(p.invariant_ops.log2),
             found_by: *origin,
             fewest_slices_found: r.fewest_slices.as_ref().map(|f| f.slices.to_json_string()),
         });
@@ -220,6 +284,13 @@ impl FitReport {
             slicing,
             frontier: r.frontier.clone(),
             cover: r.cover.clone(),
+            overhead_lower_bound: r.bound.as_ref().map(|b| OverheadBound {
+                total_ops_log2: b.total_ops_log2,
+                overhead: crate::num::overhead(b.total_ops_log2, r.unsliced.total_ops.log2),
+                cap_elements: b.cap_elements,
+                solved: b.solved,
+                bounds: OVERHEAD_BOUND_SCOPE.into(),
+            }),
             estimate: head.estimate.clone(),
             machines,
         }
@@ -228,17 +299,20 @@ impl FitReport {
     /// The frontier as CSV.
     pub fn frontier_csv(&self) -> String {
         let mut out = String::from(
-            "slices_at_most,slices,per_slice_peak_bytes,process_bytes,total_ops_log2,overhead\n",
+            "slices_at_most,slices,per_slice_peak_bytes,process_bytes,total_ops_log2,overhead,plain_total_ops_log2,plain_overhead,reused_bytes\n",
         );
         for r in &self.frontier {
             out.push_str(&format!(
-                "{},{},{:.0},{:.0},{:.6},{:.6}\n",
+                "{},{},{:.0},{:.0},{:.6},{:.6},{:.6},{:.6},{:.0}\n",
                 r.slices_at_most,
                 r.slices,
                 r.per_slice_peak_bytes,
                 r.process_bytes,
                 r.total_ops_log2,
-                r.overhead
+                r.overhead,
+                r.plain_total_ops_log2,
+                r.plain_overhead,
+                r.reused_bytes
             ));
         }
         out
@@ -277,8 +351,23 @@ impl FitReport {
             "memory    a process holds its inputs, the output accumulator and, per slice at once, the slice's peak (executor rule):\n",
         );
         let line = |label: &str, m: &MemoryReport| {
+            let held = if m.reused_bytes > 0.0 {
+                format!(" + held {}", bytes_human(m.reused_bytes))
+            } else {
+                String::new()
+            };
+            let setup = if m.setup_bytes
+                > m.reused_bytes + self.slices_at_once as f64 * m.per_slice_peak_bytes
+            {
+                format!(
+                    " (setup {} before the first slice)",
+                    bytes_human(m.setup_bytes)
+                )
+            } else {
+                String::new()
+            };
             format!(
-                "          {label:<9} inputs {} + output {} + {} x {} = {}\n",
+                "          {label:<9} inputs {} + output {}{held} + {} x {} = {}{setup}\n",
                 bytes_human(m.inputs_bytes),
                 bytes_human(m.output_bytes),
                 self.slices_at_once,
@@ -291,8 +380,20 @@ impl FitReport {
             out.push_str(&line("sliced", &self.memory));
         }
         if let Some(s) = self.slicing.as_ref().filter(|s| !s.indices.is_empty()) {
+            let reuse = if s.reuse && s.held_intermediates > 0 {
+                format!(
+                    " with reuse ({} intermediate{} computed once per process; plain {})",
+                    s.held_intermediates,
+                    if s.held_intermediates == 1 { "" } else { "s" },
+                    overhead_str(s.plain_overhead)
+                )
+            } else if s.reuse {
+                " (nothing to reuse)".to_string()
+            } else {
+                " (reuse off)".to_string()
+            };
             out.push_str(&format!(
-                "sliced    {} ({} slices); per slice {} ops, width {}; total {} ops, overhead {} (found by {})\n",
+                "sliced    {} ({} slices); per slice {} ops, width {}; total {} ops, overhead {}{reuse} (found by {})\n",
                 s.indices.join(", "),
                 group_decimal(&s.slices),
                 ops_str(s.per_slice.total_ops_log2),
@@ -300,6 +401,14 @@ impl FitReport {
                 ops_str(s.total_ops_log2),
                 overhead_str(s.overhead),
                 origin_name(s.found_by)
+            ));
+        }
+        if let Some(b) = self.overhead_lower_bound.as_ref().filter(|_| self.fits) {
+            out.push_str(&format!(
+                "floor     on this tree, every slice set that fits costs at least {} total ops: overhead >= {}{} (other trees may do better)\n",
+                ops_str(b.total_ops_log2),
+                overhead_str(b.overhead),
+                if b.solved { " (linear-programme bound)" } else { " (the tree's own unsliced ops; the programme did not run to its end)" }
             ));
         }
         if let Some(c) = self.cover.as_ref().filter(|c| c.min_slices_log2 > 1e-9) {
@@ -325,7 +434,7 @@ impl FitReport {
             ));
         }
         if !self.frontier.is_empty() {
-            out.push_str("\nfrontier (for each number of slices: the fitting set with the fewest total ops, or while none fits the smallest per-slice peak; * = chosen)\n");
+            out.push_str("\nfrontier (for each number of slices: the fitting set with the fewest total ops, or while none fits the smallest per-slice peak; * = chosen; overhead counts slice-invariant work once per process unless reuse is off, plain repeats it in every slice)\n");
             out.push_str(&frontier_table(&self.frontier));
         }
         if !self.machines.is_empty() {
@@ -479,6 +588,7 @@ pub fn frontier_table(rows: &[FrontierRow]) -> String {
         "fits",
         "total ops",
         "overhead",
+        "plain",
         "",
     ]);
     let first_fit = rows.iter().position(|r| r.fits);
@@ -494,7 +604,7 @@ pub fn frontier_table(rows: &[FrontierRow]) -> String {
             continue;
         }
         if k >= cut && shown == cut {
-            table.row(["...", "", "", "", "", "", "", ""].map(String::from));
+            table.row(["...", "", "", "", "", "", "", "", ""].map(String::from));
         }
         table.row([
             group_decimal(&r.slices_at_most),
@@ -504,6 +614,7 @@ pub fn frontier_table(rows: &[FrontierRow]) -> String {
             yes_no(r.fits).to_string(),
             ops_str(r.total_ops_log2),
             overhead_str(r.overhead),
+            overhead_str(r.plain_overhead.max(r.overhead)),
             if r.chosen { "*".into() } else { String::new() },
         ]);
         shown += 1;
@@ -568,6 +679,7 @@ fn origin_name(o: Origin) -> &'static str {
         Origin::Greedy => "greedy",
         Origin::Cover => "cover programme",
         Origin::Cooptimised => "greedy with tree re-planning",
+        Origin::SliceAware => "slice-aware search",
         Origin::Exhaustive => "exhaustive search",
     }
 }

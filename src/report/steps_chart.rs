@@ -47,7 +47,8 @@ pub struct StepCosts {
 impl StepCosts {
     /// From the model's steps by merge number and the traversal `order`.
     pub fn new(by_merge: &[Step], order: &[usize]) -> StepCosts {
-        let total: f64 = by_merge.iter().map(|s| s.ops_log2.exp2()).sum();
+        // Shares of the steps shown (the merges of `order`).
+        let total: f64 = order.iter().map(|&k| by_merge[k].ops_log2.exp2()).sum();
         let steps: Vec<StepCost> = order
             .iter()
             .enumerate()

@@ -3,7 +3,9 @@
 //! every screen: among the sets that fit the budget, the one with the
 //! fewest total ops (so the chosen plan is always a row, and total ops
 //! never increase down the fitting rows); while none fits, the one with
-//! the smallest per-slice peak (how close slicing gets).
+//! the smallest per-slice peak (how close slicing gets). Total ops and
+//! fitting are those in force (with reuse of slice-invariant work unless
+//! it is off); each row also carries the plain total ops of the same set.
 
 use serde::{Deserialize, Serialize};
 
@@ -25,6 +27,16 @@ pub struct FrontierRow {
     pub total_ops_log2: f64,
     /// Its total ops over the unsliced total ops.
     pub overhead: f64,
+    /// Its total ops when every slice repeats the slice-invariant work,
+    /// log2 (the same as `total_ops_log2` without reuse).
+    #[serde(default)]
+    pub plain_total_ops_log2: f64,
+    /// Those over the unsliced total ops.
+    #[serde(default)]
+    pub plain_overhead: f64,
+    /// Bytes of slice-invariant intermediates a process holds.
+    #[serde(default)]
+    pub reused_bytes: f64,
     /// Bytes a process running it needs in all.
     pub process_bytes: f64,
     /// True when it fits the budget.
@@ -84,6 +96,9 @@ pub fn frontier(
             per_slice_peak_bytes: p.per_slice_peak_bytes(),
             total_ops_log2: p.total_ops.log2,
             overhead: crate::num::overhead(p.total_ops.log2, unsliced_ops.log2),
+            plain_total_ops_log2: p.plain_total_ops.log2,
+            plain_overhead: crate::num::overhead(p.plain_total_ops.log2, unsliced_ops.log2),
+            reused_bytes: p.need.reused_bytes,
             process_bytes: p.need.total_bytes(),
             fits: p.fits(opts),
             chosen: chosen.is_some_and(|c| same(c, p)),

@@ -36,7 +36,7 @@ pub fn greedy(
 ) -> Vec<Point> {
     let mut trail = vec![Point::evaluate(sets, net, start, opts)];
     let mut extra = 0;
-    loop {
+    while !opts.out_of_time() {
         let current = trail.last().expect("trail starts non-empty");
         if current.fits(opts) {
             extra += 1;
@@ -54,16 +54,37 @@ pub fn greedy(
 
 /// One greedy round from `current`: the best index to add, priced; `None`
 /// when no index can be added.
+///
+/// The candidates are the indices live where one plain slice reaches its
+/// peak and, with reuse, the indices of the largest held intermediates
+/// (slicing one makes it vary, so it is no longer held whole).
 pub fn step(sets: &NodeSets, net: &Network, opts: &SliceOptions, current: &Point) -> Option<Point> {
     if current.slices.log2 >= opts.max_slices_log2 {
         return None;
     }
     let dims = Dims::sliced(net, &current.sliced);
-    let mut candidates = binding_indices(sets, &dims, &current.order);
+    let plain_order = if current.held.is_empty() {
+        current.order.clone()
+    } else {
+        sets.evaluate(&dims, PeakModel::EXECUTOR).order
+    };
+    let mut candidates = binding_indices(sets, &dims, &plain_order);
+    if !current.held.is_empty() {
+        let mut held = current.held.clone();
+        let size = |v: usize| sets.indices[v].iter().map(|&e| dims.log2[e]).sum::<f64>();
+        held.sort_by(|&a, &b| size(b).total_cmp(&size(a)));
+        for &h in held.iter().take(4) {
+            for &e in &sets.indices[h] {
+                if !candidates.contains(&e) {
+                    candidates.push(e);
+                }
+            }
+        }
+    }
     candidates.retain(|e| !current.sliced.contains(e) && dims.dim[*e] > 1);
     // Price the candidates touching the most live elements first.
     candidates.truncate(opts.max_candidates);
-    let now = (current.per_slice_peak.log2, current.total_ops.log2);
+    let now = (current.excess_log2(), current.total_ops.log2);
     let mut best: Option<Point> = None;
     for &e in &candidates {
         let mut sliced = current.sliced.clone();
@@ -98,7 +119,7 @@ pub fn interleaved(
     let mut current = Point::evaluate(&sets, net, &[], opts);
     let mut out = Vec::new();
     let mut refits = 0;
-    while !current.fits(opts) {
+    while !current.fits(opts) && !opts.out_of_time() {
         let Some(mut next) = step(&sets, net, opts, &current) else {
             break;
         };
@@ -108,8 +129,8 @@ pub fn interleaved(
             if let Some(other) = refit(net, &next.sliced, next.per_slice_width) {
                 let other_sets = NodeSets::new(net, &other);
                 let p = Point::evaluate(&other_sets, net, &next.sliced, opts);
-                let lower_peak = p.per_slice_peak.log2 < next.per_slice_peak.log2 - 1e-9;
-                let same_peak = p.per_slice_peak.log2 <= next.per_slice_peak.log2 + 1e-9;
+                let lower_peak = p.excess_log2() < next.excess_log2() - 1e-9;
+                let same_peak = p.excess_log2() <= next.excess_log2() + 1e-9;
                 if lower_peak || (same_peak && p.total_ops.log2 < next.total_ops.log2 - 1e-9) {
                     tree = other;
                     sets = other_sets;
@@ -126,10 +147,11 @@ pub fn interleaved(
     out
 }
 
-/// Orders candidates (smaller is better): those that lower the peak first;
-/// among them, by the rule; then by peak.
+/// Orders candidates (smaller is better): those that lower the process's
+/// need (less inputs and output) first; among them, by the rule; then by
+/// that need.
 fn rank(p: &Point, (peak_now, ops_now): (f64, f64), rule: GreedyRule) -> (bool, i64, i64) {
-    let lowered = peak_now - p.per_slice_peak.log2;
+    let lowered = peak_now - p.excess_log2();
     let lowers = lowered > 1e-12;
     // Quantise so that near-equal floats compare equal and ties fall to peak.
     let q = |x: f64| (x * 1e9).round() as i64;
@@ -140,7 +162,7 @@ fn rank(p: &Point, (peak_now, ops_now): (f64, f64), rule: GreedyRule) -> (bool, 
         GreedyRule::OpsPerHalving if lowers => (p.total_ops.log2 - ops_now + 1e-3) / lowered,
         GreedyRule::OpsPerHalving => p.total_ops.log2,
     };
-    (!lowers, q(score), q(p.per_slice_peak.log2))
+    (!lowers, q(score), q(p.excess_log2()))
 }
 
 /// How the greedy picks among the indices live at the binding step.

@@ -24,15 +24,18 @@
 //! sets at O(n log n) each for n tensors; the number of rounds is about the
 //! log2 of the needed peak reduction plus the frontier's extra rounds.
 
+pub mod bound;
 pub mod cover;
 pub mod exhaustive;
 pub mod frontier;
 pub mod greedy;
+pub mod joint;
+pub mod reuse;
 
 use serde::Serialize;
 
 use crate::cost::memory::{inputs_bytes, output_bytes, MemoryNeed};
-use crate::cost::{NodeSets, PeakModel};
+use crate::cost::NodeSets;
 use crate::network::{Dtype, IndexId, Network};
 use crate::num::Count;
 use crate::tree::Tree;
@@ -60,6 +63,12 @@ pub struct SliceOptions {
     pub cover_seconds: f64,
     /// How the greedy picks the next index.
     pub rule: greedy::GreedyRule,
+    /// Price slice sets with slice-invariant intermediates computed once
+    /// per process and held ([`reuse`]); `false` repeats them in every
+    /// slice.
+    pub reuse: bool,
+    /// No search step starts after this instant (the command's deadline).
+    pub deadline: Option<std::time::Instant>,
 }
 
 impl SliceOptions {
@@ -75,7 +84,22 @@ impl SliceOptions {
             cover: true,
             cover_seconds: 5.0,
             rule: greedy::GreedyRule::default(),
+            reuse: true,
+            deadline: None,
         }
+    }
+
+    /// True once the deadline has passed.
+    pub fn out_of_time(&self) -> bool {
+        self.deadline
+            .is_some_and(|d| std::time::Instant::now() >= d)
+    }
+
+    /// Elements a process has for held intermediates and slices: the budget
+    /// less inputs and output, over the element size.
+    pub fn avail_elements(&self, net: &Network) -> f64 {
+        let fixed = inputs_bytes(net, self.dtype) + output_bytes(net, self.dtype);
+        (self.budget_bytes as f64 - fixed) / self.dtype.bytes() as f64
     }
 }
 
@@ -86,43 +110,101 @@ pub struct Point {
     pub sliced: Vec<IndexId>,
     /// Product of their dimensions.
     pub slices: Count,
-    /// Total ops of one slice.
+    /// Total ops of one slice (without the held intermediates' work).
     pub per_slice_total_ops: Count,
-    /// Width of one slice.
+    /// Width of one slice (held intermediates count as its inputs).
     pub per_slice_width: f64,
     /// Peak elements of one slice (executor model).
     pub per_slice_peak: Count,
-    /// Slices x per-slice total ops.
+    /// Total ops of the plan: the held intermediates' work once plus
+    /// slices x per-slice total ops (with reuse off, slices x per-slice).
     pub total_ops: Count,
+    /// Total ops when every slice does all the work: slices x (per-slice
+    /// total ops + the held intermediates' work).
+    pub plain_total_ops: Count,
+    /// Ops of the held intermediates (done once per process).
+    pub invariant_ops: Count,
+    /// The held intermediates (node ids), in the order they are computed.
+    pub held: Vec<usize>,
     /// What a process needs.
     pub need: MemoryNeed,
-    /// The traversal order for one slice.
+    /// The traversal: the held intermediates' merges first (setup), then
+    /// one slice's merges.
     pub order: Vec<usize>,
+    /// Merges of the setup at the head of `order`.
+    pub setup_merges: usize,
 }
 
 impl Point {
-    /// Prices slice set `sliced` on the tree behind `sets`.
+    /// Prices slice set `sliced` on the tree behind `sets`, with reuse of
+    /// invariant intermediates when `opts.reuse` (held set chosen by
+    /// [`reuse::choose_held`] for the budget).
     pub fn evaluate(
         sets: &NodeSets,
         net: &Network,
         sliced: &[IndexId],
         opts: &SliceOptions,
     ) -> Point {
-        let s = sets.evaluate_sliced(net, sliced, PeakModel::EXECUTOR);
+        let priced = if opts.reuse {
+            reuse::choose_held(
+                sets,
+                net,
+                sliced,
+                opts.avail_elements(net),
+                opts.slices_at_once,
+            )
+        } else {
+            reuse::price(sets, net, sliced, &[])
+        };
+        Point::from_priced(net, sliced, priced, opts)
+    }
+
+    /// Prices slice set `sliced` holding exactly `held` (as a plan records).
+    pub fn evaluate_held(
+        sets: &NodeSets,
+        net: &Network,
+        sliced: &[IndexId],
+        held: &[usize],
+        opts: &SliceOptions,
+    ) -> Point {
+        Point::from_priced(net, sliced, reuse::price(sets, net, sliced, held), opts)
+    }
+
+    fn from_priced(
+        net: &Network,
+        sliced: &[IndexId],
+        p: reuse::Priced,
+        opts: &SliceOptions,
+    ) -> Point {
+        let slices = Count {
+            exact: crate::num::product(sliced.iter().map(|&e| net.indices[e].dim)),
+            log2: sliced
+                .iter()
+                .map(|&e| (net.indices[e].dim as f64).log2())
+                .sum(),
+        };
+        let bytes = opts.dtype.bytes() as f64;
+        let per_slice = p.per_slice.total_ops;
         Point {
             sliced: sliced.to_vec(),
-            slices: s.slices,
-            per_slice_total_ops: s.per_slice.total_ops,
-            per_slice_width: s.per_slice.width,
-            per_slice_peak: s.per_slice.peak,
-            total_ops: s.total_ops,
+            slices,
+            per_slice_total_ops: per_slice,
+            per_slice_width: p.per_slice.width,
+            per_slice_peak: p.per_slice.peak,
+            total_ops: p.invariant_ops + per_slice * slices,
+            plain_total_ops: (per_slice + p.invariant_ops) * slices,
+            invariant_ops: p.invariant_ops,
+            held: p.held,
             need: MemoryNeed {
                 inputs_bytes: inputs_bytes(net, opts.dtype),
                 output_bytes: output_bytes(net, opts.dtype),
-                per_slice_peak_bytes: s.per_slice.peak.to_f64() * opts.dtype.bytes() as f64,
+                per_slice_peak_bytes: p.per_slice.peak.to_f64() * bytes,
                 slices_at_once: opts.slices_at_once,
+                reused_bytes: p.held_elements * bytes,
+                setup_bytes: p.setup_elements * bytes,
             },
-            order: s.per_slice.order,
+            order: p.per_slice.order,
+            setup_merges: p.setup_merges,
         }
     }
 
@@ -134,6 +216,14 @@ impl Point {
     /// Per-slice peak in bytes.
     pub fn per_slice_peak_bytes(&self) -> f64 {
         self.need.per_slice_peak_bytes
+    }
+
+    /// log2 of what slicing can still shrink: the process's need less
+    /// inputs and output (held intermediates and the slices at once).
+    pub fn excess_log2(&self) -> f64 {
+        (self.need.total_bytes() - self.need.fixed_bytes())
+            .max(1.0)
+            .log2()
     }
 }
 
@@ -149,6 +239,9 @@ pub enum Origin {
     Cover,
     /// Greedy on a tree re-planned for the sliced network.
     Cooptimised,
+    /// The slice-aware search: slicing interleaved with reconfiguration
+    /// of the sliced tree.
+    SliceAware,
     /// Every slice set of a few indices (small networks).
     Exhaustive,
 }
@@ -189,6 +282,9 @@ pub struct SliceResult {
     pub frontier: Vec<FrontierRow>,
     /// The cover programme's report for the final tree.
     pub cover: Option<CoverReport>,
+    /// The lower bound on total ops of every fitting slice set on the
+    /// chosen tree (when slicing is needed).
+    pub bound: Option<bound::OpsBound>,
 }
 
 /// Re-plans a tree for the network with the given indices sliced, for the
@@ -203,10 +299,68 @@ struct Seen {
     tree: usize,
 }
 
+/// The points met so far and the trees they are on.
+struct Pool {
+    trees: Vec<Tree>,
+    seen: Vec<Seen>,
+}
+
+impl Pool {
+    fn tree_id(&mut self, t: Tree) -> usize {
+        match self.trees.iter().position(|x| *x == t) {
+            Some(id) => id,
+            None => {
+                self.trees.push(t);
+                self.trees.len() - 1
+            }
+        }
+    }
+
+    fn add(&mut self, points: impl IntoIterator<Item = Point>, origin: Origin, tree: usize) {
+        self.seen.extend(points.into_iter().map(|point| Seen {
+            point,
+            origin,
+            tree,
+        }));
+    }
+
+    fn add_with_trees(&mut self, found: Vec<(Point, Tree)>, origin: Origin) {
+        for (point, t) in found {
+            let id = self.tree_id(t);
+            self.add([point], origin, id);
+        }
+    }
+
+    /// The greedy trail on tree `id` and its first fitting set, pruned.
+    fn greedy_on(&mut self, net: &Network, id: usize, opts: &SliceOptions, origin: Origin) {
+        let sets = NodeSets::new(net, &self.trees[id]);
+        let trail = greedy::greedy(&sets, net, opts, &[]);
+        let fit = trail
+            .iter()
+            .find(|p| p.fits(opts))
+            .map(|p| greedy::prune(&sets, net, opts, p));
+        self.add(trail, origin, id);
+        self.add(fit, origin, id);
+    }
+}
+
 /// Finds a slice set that fits the budget, starting from `tree`.
 ///
-/// With `refit`, also runs the greedy that re-plans the tree after each
-/// index it adds (at most `rounds` re-plans).
+/// Searches, in turn (each step only while time is left before
+/// `opts.deadline`; the shares are of the time left at the call):
+///
+/// 1. the greedy on `tree`, and every set of up to three indices when
+///    there are few;
+/// 2. with `refit` (the tree may change): the slice-aware search
+///    ([`joint::descend`]) from `tree` (until 35%);
+/// 3. with `refit`: trees re-planned from the start for a smaller width
+///    (the whole needed reduction, and half of it), sliced greedily;
+/// 4. with `refit`: the slice-aware search from those trees and from
+///    min-fill and min-degree elimination trees (until 75%);
+/// 5. with `refit`: the greedy that re-plans the whole tree after each
+///    index it adds, at most `rounds` times (until 92%);
+/// 6. the cover programme on the tree of the best set so far, and the
+///    lower bound on total ops for the chosen tree ([`bound`]).
 pub fn find_slices(
     net: &Network,
     tree: &Tree,
@@ -214,107 +368,98 @@ pub fn find_slices(
     mut refit: Option<&mut Refit<'_>>,
     rounds: usize,
 ) -> SliceResult {
-    let mut trees = vec![tree.clone()];
+    let began = std::time::Instant::now();
+    let share = |f: f64| -> SliceOptions {
+        let mut o = opts.clone();
+        o.deadline = opts
+            .deadline
+            .map(|d| began + d.saturating_duration_since(began).mul_f64(f));
+        o
+    };
     let sets = NodeSets::new(net, tree);
     let unsliced = Point::evaluate(&sets, net, &[], opts);
-    let mut seen: Vec<Seen> = vec![Seen {
-        point: unsliced.clone(),
-        origin: Origin::Unsliced,
-        tree: 0,
-    }];
-    let add = |seen: &mut Vec<Seen>, points: Vec<Point>, origin: Origin, tree: usize| {
-        seen.extend(points.into_iter().map(|point| Seen {
-            point,
-            origin,
-            tree,
-        }));
+    let mut pool = Pool {
+        trees: vec![tree.clone()],
+        seen: Vec::new(),
     };
-    let trail = greedy::greedy(&sets, net, opts, &[]);
-    let first_fit = trail
-        .iter()
-        .find(|p| p.fits(opts))
-        .map(|p| greedy::prune(&sets, net, opts, p));
-    add(&mut seen, trail, Origin::Greedy, 0);
-    add(
-        &mut seen,
-        first_fit.clone().into_iter().collect(),
-        Origin::Greedy,
-        0,
-    );
-    add(
-        &mut seen,
-        exhaustive::exhaustive(&sets, net, opts, 3)
-            .into_iter()
-            .collect(),
+    pool.add([unsliced.clone()], Origin::Unsliced, 0);
+    pool.greedy_on(net, 0, opts, Origin::Greedy);
+    pool.add(
+        exhaustive::exhaustive(&sets, net, opts, 3),
         Origin::Exhaustive,
         0,
     );
-    // Co-optimisation: slice one index at a time and re-plan the tree for
-    // the sliced network after each.
-    if let Some(refit) = refit.as_mut() {
-        if !unsliced.fits(opts) {
-            let tree_id = |t: Tree, trees: &mut Vec<Tree>| match trees.iter().position(|x| *x == t)
-            {
-                Some(id) => id,
-                None => {
-                    trees.push(t);
-                    trees.len() - 1
-                }
-            };
-            for (point, t) in greedy::interleaved(net, tree, opts, &mut **refit, rounds) {
-                let id = tree_id(t, &mut trees);
-                add(&mut seen, vec![point], Origin::Cooptimised, id);
-            }
-            // Trees planned from the start for a smaller width: the peak
-            // must come down by `needed` (log2); ask for a width lower by
-            // all of it, and by half of it, then slice those trees greedily.
-            let target = (opts.budget_bytes as f64 - unsliced.need.fixed_bytes())
-                / opts.slices_at_once as f64;
-            let needed = unsliced.need.per_slice_peak_bytes.log2() - target.max(1.0).log2();
+    // Only with `refit` may the tree change: without it (a tree the user
+    // gave) every set is priced on `tree`.
+    if !unsliced.fits(opts) && refit.is_some() {
+        let o = share(0.35);
+        if !o.out_of_time() {
+            pool.add_with_trees(joint::descend(net, tree, &o, 0), Origin::SliceAware);
+        }
+        // Trees planned from the start for a smaller width: the need must
+        // come down by `needed` (log2); ask for a width lower by all of
+        // it, and by half of it.
+        let mut starts = Vec::new();
+        if let Some(refit) = refit.as_mut() {
+            let target = opts.avail_elements(net) * opts.dtype.bytes() as f64;
+            let needed = unsliced.excess_log2() - target.max(1.0).log2();
             for share in [1.0, 0.5] {
                 let cap = unsliced.per_slice_width - (needed * share).ceil();
-                if cap < 1.0 {
+                if cap < 1.0 || opts.out_of_time() {
                     continue;
                 }
                 let Some(t) = refit(net, &[], cap) else {
                     continue;
                 };
-                let t_sets = NodeSets::new(net, &t);
-                let trail = greedy::greedy(&t_sets, net, opts, &[]);
-                let fit = trail
-                    .iter()
-                    .find(|p| p.fits(opts))
-                    .map(|p| greedy::prune(&t_sets, net, opts, p));
-                let id = tree_id(t, &mut trees);
-                add(&mut seen, trail, Origin::Cooptimised, id);
-                add(
-                    &mut seen,
-                    fit.into_iter().collect(),
-                    Origin::Cooptimised,
-                    id,
-                );
+                let id = pool.tree_id(t.clone());
+                pool.greedy_on(net, id, opts, Origin::Cooptimised);
+                starts.push(t);
+            }
+        }
+        if net.num_tensors() <= ELIMINATION_START_MAX {
+            for t in [
+                crate::search::min_fill_tree(net),
+                crate::search::min_degree_tree(net),
+            ] {
+                if !starts.contains(&t) && t != *tree {
+                    starts.push(t);
+                }
+            }
+        }
+        let o = share(0.75);
+        pool.add_with_trees(joint::search(net, &starts, &o), Origin::SliceAware);
+        // Co-optimisation: slice one index at a time and re-plan the tree
+        // for the sliced network after each.
+        if let Some(refit) = refit.as_mut() {
+            let o = share(0.92);
+            if !o.out_of_time() {
+                let found = greedy::interleaved(net, tree, &o, &mut **refit, rounds);
+                pool.add_with_trees(found, Origin::Cooptimised);
             }
         }
     }
+    let seen = &pool.seen;
     // The cover programme runs on the tree of the best set so far.
-    let final_tree = pick(&seen, opts, by_ops_key)
+    let final_tree = pick(seen, opts, by_ops_key)
         .map(|i| seen[i].tree)
         .unwrap_or(0);
-    let sets = NodeSets::new(net, &trees[final_tree]);
-    let cover = if opts.cover {
-        let (report, candidate) = cover::cover(&sets, net, opts);
-        add(
-            &mut seen,
-            candidate.into_iter().collect(),
-            Origin::Cover,
-            final_tree,
-        );
+    let final_sets = NodeSets::new(net, &pool.trees[final_tree]);
+    let cover_opts = share(0.96);
+    let cover = if opts.cover && !cover_opts.out_of_time() {
+        let mut o = cover_opts;
+        if let Some(d) = o.deadline {
+            let left = d.saturating_duration_since(std::time::Instant::now());
+            o.cover_seconds = o.cover_seconds.min(left.as_secs_f64());
+        }
+        let (report, candidate) = cover::cover(&final_sets, net, &o);
+        pool.add(candidate, Origin::Cover, final_tree);
         report
     } else {
         None
     };
-    let by_ops = pick(&seen, opts, by_ops_key);
-    let by_slices = pick(&seen, opts, |p| {
+    let seen = &pool.seen;
+    let by_ops = pick(seen, opts, by_ops_key);
+    let by_slices = pick(seen, opts, |p| {
         (quantise(p.slices.log2), quantise(p.total_ops.log2))
     });
     let smallest_need_bytes = seen
@@ -328,16 +473,25 @@ pub fn find_slices(
         + opts.frontier_extra as f64;
     let points: Vec<Point> = seen.iter().map(|s| s.point.clone()).collect();
     let chosen = by_ops.map(|i| &seen[i].point);
+    let bound = if unsliced.fits(opts) {
+        None
+    } else {
+        bound::ops_lower_bound(&NodeSets::new(net, &pool.trees[chosen_tree]), net, opts)
+    };
     SliceResult {
         frontier: frontier(&points, unsliced.total_ops, limit, opts, chosen),
-        tree: trees[chosen_tree].clone(),
+        tree: pool.trees[chosen_tree].clone(),
         chosen: by_ops.map(|i| (seen[i].point.clone(), seen[i].origin)),
         fewest_slices: by_slices.map(|i| seen[i].point.clone()),
         unsliced,
         smallest_need_bytes,
         cover,
+        bound,
     }
 }
+
+/// Networks above this many tensors get no elimination-tree restarts.
+const ELIMINATION_START_MAX: usize = 20_000;
 
 fn quantise(x: f64) -> i64 {
     (x * 1e6).round() as i64

@@ -36,6 +36,7 @@ mod jobs_scripts;
 mod jobs_snapshots;
 mod jobs_status;
 mod report_charts;
+mod reuse;
 mod run_memory_check;
 mod search_baseline;
 mod search_cli;

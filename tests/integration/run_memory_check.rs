@@ -52,14 +52,18 @@ fn the_refusal_sits_exactly_at_the_predicted_need() {
         sliceplan(tmp.path(), Some(available), &[&base[..], extra].concat())
     };
     // The run's own figures: the process holds the inputs once, the output
-    // accumulator, and one slice's peak with one thread.
+    // accumulator, and the larger of (held slice-invariant intermediates +
+    // one slice's peak with one thread) and the setup that computes them
+    // (the rule of `cost::memory`).
     let o = run(u64::MAX / 2, "p", &["--json"]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let json: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     let mem = &json["run"]["memory"];
     let need = mem["inputs"].as_u64().unwrap()
         + mem["accumulator"].as_u64().unwrap()
-        + mem["predicted_per_slice"].as_u64().unwrap();
+        + (mem["predicted_reused"].as_u64().unwrap()
+            + mem["predicted_per_slice"].as_u64().unwrap())
+        .max(mem["predicted_setup"].as_u64().unwrap());
     let refused = run(need - 1, "q", &[]);
     assert_eq!(refused.status.code(), Some(1));
     let err = String::from_utf8_lossy(&refused.stderr);

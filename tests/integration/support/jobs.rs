@@ -96,6 +96,8 @@ pub fn grid_plan(
         budget_bytes: 1 << 20,
         slices_at_once: 1,
         seed: 0,
+        reuse: false,
+        held: Vec::new(),
         predicted: Predicted {
             per_slice_total_ops_log2: priced.per_slice.total_ops.log2,
             per_slice_width: priced.per_slice.width,
@@ -108,6 +110,9 @@ pub fn grid_plan(
             baseline_total_ops_log2: 0.0,
             found_by: "greedy".into(),
             tree_source: "file order (test fixture)".into(),
+            plain_total_ops_log2: priced.total_ops.log2,
+            reused_bytes: "0".into(),
+            setup_bytes: "0".into(),
         },
         frontier: Vec::new(),
         cover: None,
@@ -122,6 +127,7 @@ pub fn grid_plan(
             by_threads: Vec::new(),
         }),
         lower_bound_width: None,
+        ops_bound: None,
     }
 }
 
