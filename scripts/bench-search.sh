@@ -11,7 +11,8 @@
 #   random circuits, 50 to 100 qubits, depth 20; 1 minute), regular100k
 #   (3-regular graph of 10^5 vertices, 10 s), refine100k (subtree
 #   reconfiguration passes on 10^5-tensor trees; 1 minute), finders
-#   (how long each simple order takes on large networks)
+#   (how long each simple order takes on large networks), and
+#   `files SECS PATH...` (input files against file order and min-fill)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet --bin bench-search

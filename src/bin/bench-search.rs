@@ -7,7 +7,9 @@
 //! (L = 100, 316, 1000 with 10 s, 60 s, 120 s), circuits (brickwork and
 //! random circuits of 50 to 100 qubits, depth 20), regular100k (3-regular,
 //! 10^5 vertices, 10 s), refine100k (subtree reconfiguration passes on
-//! trees of 10^5 tensors), or `all` (the first eight).
+//! trees of 10^5 tensors), `files SECS PATH...` (any input files the
+//! command line reads: circuits, formulas, graphs, networks; objective ops,
+//! SECS seconds each), or `all` (the first eight).
 //!
 //! Every search is the library's `find_tree` with `SearchOptions`, as users
 //! run it; the references are the library's `file_order_tree` and
@@ -56,6 +58,10 @@ fn main() {
     extra("regular100k", &regular100k);
     extra("finders", &finders_timing);
     extra("refine100k", &refine100k);
+    if family == "files" {
+        known = true;
+        files();
+    }
     if !known {
         eprintln!("unknown family '{family}'; see the file's doc comment");
         std::process::exit(2);
@@ -497,6 +503,48 @@ fn circuits() {
         .collect();
     println!(
         "Circuits of our own (brickwork on a grid, random pairings), depth 20, objective ops, 10 s\n{}",
+        versus_table(&rows)
+    );
+}
+
+/// `files SECS PATH...`: each file read as `sliceplan plan` reads it (the
+/// format from the extension), searched for SECS seconds (objective ops),
+/// against its file order and min-fill.
+fn files() {
+    let args: Vec<String> = std::env::args().skip(2).collect();
+    let Some((secs, paths)) = args.split_first() else {
+        eprintln!("usage: bench-search files SECS PATH...");
+        std::process::exit(2);
+    };
+    let Ok(secs) = secs.parse::<f64>() else {
+        eprintln!("files: SECS must be a number of seconds, not '{secs}'");
+        std::process::exit(2);
+    };
+    let mut rows = Vec::new();
+    for path in paths {
+        let net = match sliceplan::formats::load(std::path::Path::new(path), &Default::default()) {
+            Ok(n) => n,
+            Err(e) => {
+                eprintln!("{path}: {e}");
+                std::process::exit(2);
+            }
+        };
+        let v = versus(&net, &timed(Objective::TotalOps, secs, 1), true);
+        let fill = v.fill.as_ref().map_or((f64::INFINITY, f64::INFINITY), |f| {
+            (f.0.total_ops.log2, f.0.width)
+        });
+        let targets = format!(
+            "ops <= file order's: {}; ops <= min-fill's: {}; width <= min-fill's: {}; within budget +10%: {}",
+            met(v.ours.total_ops.log2 <= v.file.total_ops.log2 + 1e-9),
+            met(v.ours.total_ops.log2 <= fill.0 + 1e-9),
+            met(v.ours.width <= fill.1 + 1e-9),
+            met(v.secs <= v.budget * 1.1),
+        );
+        eprintln!("{path}: {:.1} s", v.secs);
+        rows.push((v, targets));
+    }
+    println!(
+        "Input files, objective ops, {secs} s each\n{}",
         versus_table(&rows)
     );
 }
