@@ -96,6 +96,9 @@ pub enum ObjectiveArg {
     Peak,
     /// Least width (then least total ops).
     Width,
+    /// Least op width: the largest single contraction, the time exponent of
+    /// the slowest step (then least total ops).
+    OpWidth,
     /// Least weighted sum of log2 total ops, width and log2 peak (--weights).
     Mix,
     /// Least total ops among trees of width at most --max-width.
@@ -250,25 +253,6 @@ pub struct SearchArgs {
 impl SearchArgs {
     /// The objective with its parameters.
     fn objective(&self) -> Result<Objective> {
-        let text = match self.objective {
-            ObjectiveArg::Ops => "ops".to_string(),
-            ObjectiveArg::Peak => "peak".to_string(),
-            ObjectiveArg::Width => "width".to_string(),
-            ObjectiveArg::Mix => format!(
-                "mix:{}",
-                self.weights.as_deref().ok_or_else(|| Error::invalid(
-                    "weights",
-                    "--objective mix needs three weights, e.g. 1,0.5,0"
-                ))?
-            ),
-            ObjectiveArg::OpsWithin => format!(
-                "ops-within:{}",
-                self.max_width.ok_or_else(|| Error::invalid(
-                    "max_width",
-                    "--objective ops-within needs the width cap, e.g. 30"
-                ))?
-            ),
-        };
         if self.weights.is_some() && self.objective != ObjectiveArg::Mix {
             return Err(Error::invalid("weights", "goes with --objective mix"));
         }
@@ -278,8 +262,34 @@ impl SearchArgs {
                 "goes with --objective ops-within",
             ));
         }
-        text.parse()
-            .map_err(|m: String| Error::invalid("objective", m))
+        Ok(match self.objective {
+            ObjectiveArg::Ops => Objective::TotalOps,
+            ObjectiveArg::Peak => Objective::Peak,
+            ObjectiveArg::Width => Objective::Width,
+            ObjectiveArg::OpWidth => Objective::OpWidth,
+            ObjectiveArg::Mix => {
+                let weights = self.weights.as_deref().ok_or_else(|| {
+                    Error::invalid(
+                        "weights",
+                        "--objective mix needs three weights, e.g. 1,0.5,0",
+                    )
+                })?;
+                format!("mix:{weights}")
+                    .parse()
+                    .map_err(|m: String| Error::invalid("weights", m))?
+            }
+            ObjectiveArg::OpsWithin => {
+                let max_width = self.max_width.ok_or_else(|| {
+                    Error::invalid(
+                        "max_width",
+                        "--objective ops-within needs the width cap, e.g. 30",
+                    )
+                })?;
+                format!("ops-within:{max_width}")
+                    .parse()
+                    .map_err(|m: String| Error::invalid("max_width", m))?
+            }
+        })
     }
 
     /// The tree file, or the checked search options.

@@ -63,6 +63,8 @@ impl TreeChoice {
                         seconds: s.seconds,
                         trials_per_second: s.trials as f64 / s.seconds.max(1e-9),
                         interrupted: s.interrupted,
+                        phases: s.phases,
+                        candidates: s.candidates.clone(),
                     }),
                     lower_bound: s.lower_bound,
                     tree: s.tree,

@@ -29,6 +29,11 @@ pub struct SearchReport {
     pub trials_per_second: f64,
     /// True when stopped early by Ctrl-C.
     pub interrupted: bool,
+    /// Where the search's time went (simplify, candidates, trials, refine,
+    /// pricing), seconds.
+    pub phases: crate::search::PhaseTimes,
+    /// The simple orders priced before the trials, as found.
+    pub candidates: Vec<crate::search::CandidateScore>,
 }
 
 /// Everything `plan` reports.

@@ -197,3 +197,50 @@ fn tiny_time_budget_never_panics() {
         assert!(v["tree"]["total_ops_log2"].as_f64().unwrap().is_finite());
     }
 }
+
+#[test]
+fn plan_json_says_where_the_time_went_and_which_simple_orders_were_priced() {
+    let demo = concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data/ising-6x6.toml");
+    let (code, stdout, stderr) = sliceplan(&["plan", demo, "--trials", "4", "--json"]);
+    assert_eq!(code, Some(0), "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&stdout).expect("one JSON object");
+    let search = &v["search"];
+    for key in ["simplify", "candidates", "trials", "refine", "pricing"] {
+        let t = search["phases"][key].as_f64().unwrap_or(-1.0);
+        assert!(t >= 0.0, "search.phases.{key} = {t}");
+    }
+    let candidates = search["candidates"].as_array().expect("candidates");
+    let names: Vec<&str> = candidates
+        .iter()
+        .map(|c| c["finder"].as_str().unwrap())
+        .collect();
+    assert!(
+        names.contains(&"file-order") && names.contains(&"min-fill"),
+        "{names:?}"
+    );
+    // The search's guarantee: its tree is never worse, in total ops (the
+    // objective), than any simple order it priced.
+    let best = v["tree"]["total_ops_log2"].as_f64().unwrap();
+    for c in candidates {
+        assert!(best <= c["total_ops_log2"].as_f64().unwrap() + 1e-9, "{c}");
+    }
+}
+
+#[test]
+fn op_width_is_an_objective_on_the_command_line() {
+    let mut args = vec!["plan"];
+    args.extend(CHAIN);
+    args.extend(["--trials", "4", "--objective", "op-width", "--json"]);
+    let (code, stdout, stderr) = sliceplan(&args);
+    assert_eq!(code, Some(0), "{stderr}");
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    assert_eq!(v["search"]["objective"], "op-width");
+    // Least op width, worked out by hand from the chain's dimensions
+    // (Cormen et al. §15.2): the step that sums b holds a (open, 30), b (35)
+    // and an index of the block right of b, at least d = 5, so every tree
+    // has a step of >= 30 x 35 x 5 = 5,250. The tree (A1 (A2 A3)) ((A4 A5)
+    // A6) reaches it: steps 35x15x5, 30x35x5, 5x10x20, 5x20x25, 30x5x25, the
+    // largest 5,250. The exact search (6 tensors) must find exactly that.
+    let op_width = v["tree"]["op_width"].as_f64().unwrap();
+    assert!((op_width - 5250f64.log2()).abs() < 1e-9, "{op_width}");
+}
