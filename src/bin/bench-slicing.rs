@@ -2,7 +2,9 @@
 //! slice-aware search, reuse of slice-invariant work, the overhead floor)
 //! on our brickwork circuits and 2D lattices, with the per-slice peak 2^5,
 //! 2^10 and 2^15 below unsliced, one time budget per case. Prints one row
-//! per case as it finishes, then the targets; asserts nothing. Run with
+//! per case as it finishes (with the total ops unsliced, `ops 1`, and
+//! sliced, `ops S`, so overheads over different baselines compare), then
+//! the targets; asserts nothing. Run with
 //! `scripts/bench-slicing.sh`.
 //!
 //! Usage: `bench-slicing [--time SECONDS] [--seeds N] [--threads T]
@@ -106,11 +108,13 @@ fn main() {
         }
     }
     println!(
-        "{:<22} {:>4} {:>5} {:>5} {:>11} {:>10} {:>10} {:>8} {:<20} {:>7}",
+        "{:<22} {:>4} {:>5} {:>5} {:>9} {:>9} {:>11} {:>10} {:>10} {:>8} {:<20} {:>7}",
         "case",
         "seed",
         "red.",
         "fits",
+        "ops 1",
+        "ops S",
         "log2 slices",
         "overhead",
         "plain",
@@ -152,11 +156,13 @@ fn main() {
                 floor: r.overhead_lower_bound.as_ref().map(|b| b.overhead),
             };
             println!(
-                "{:<22} {:>4} {:>5} {:>5} {:>11.1} {:>9.3}x {:>9.3}x {:>8} {:<20} {:>7.1}",
+                "{:<22} {:>4} {:>5} {:>5} {:>9} {:>9} {:>11.1} {:>9.3}x {:>9.3}x {:>8} {:<20} {:>7.1}",
                 case.family,
                 case.seed,
                 format!("2^{reduction}"),
                 if row.fits { "yes" } else { "NO" },
+                format!("2^{:.2}", r.tree.total_ops_log2),
+                s.map_or("-".to_string(), |s| format!("2^{:.2}", s.total_ops_log2)),
                 row.slices_log2,
                 row.overhead,
                 row.plain,
