@@ -50,7 +50,11 @@ pub fn report(opts: &ReportOptions) -> Result<FitReport> {
     let advice = Advice::from_plan(&net, &plan)?;
     let metrics =
         NodeSets::new(&net, &advice.result.tree).evaluate_unsliced(&net, PeakModel::default());
-    let source = if plan.predicted.tree_source.is_empty() {
+    let baseline = plan.predicted.baseline_total_ops_log2;
+    let source = if baseline > 0.0 && (metrics.total_ops.log2 - baseline).abs() > 1e-9 {
+        // The search's tree was the baseline; slicing re-planned this one.
+        "the plan's tree, re-planned for slicing".to_string()
+    } else if plan.predicted.tree_source.is_empty() {
         "from the plan".to_string()
     } else {
         plan.predicted.tree_source.clone()

@@ -19,6 +19,11 @@ use crate::slicing::{CoverReport, FrontierRow, Origin};
 pub struct SlicingReport {
     /// Names of the sliced indices.
     pub indices: Vec<String>,
+    /// log2 total ops, unsliced, of the tree the slices run on: the
+    /// searched tree's, or the tree's that slicing re-planned (the
+    /// overheads stay over the best unsliced tree found,
+    /// `frontier[0]`).
+    pub tree_total_ops_log2: f64,
     /// Their dimensions.
     pub dims: Vec<u64>,
     /// Number of slices, decimal.
@@ -225,7 +230,14 @@ impl FitReport {
         let head = &advice[0];
         let r = &head.result;
         let fits_without = head.fits_without_slicing();
+        let sliced_tree_ops = r.chosen.as_ref().map(|_| {
+            crate::cost::NodeSets::new(net, &r.tree)
+                .evaluate_unsliced(net, crate::cost::PeakModel::default())
+                .total_ops
+                .log2
+        });
         let slicing = r.chosen.as_ref().map(|(p, origin)| SlicingReport {
+            tree_total_ops_log2: sliced_tree_ops.unwrap_or(r.unsliced.total_ops.log2),
             indices: p
                 .sliced
                 .iter()
@@ -402,6 +414,15 @@ impl FitReport {
                 overhead_str(s.overhead),
                 origin_name(s.found_by)
             ));
+            if let Some(first) = self.frontier.first() {
+                if (s.tree_total_ops_log2 - first.total_ops_log2).abs() > 1e-9 {
+                    out.push_str(&format!(
+                        "          the slices run on a tree re-planned for slicing ({} ops unsliced); overheads are over {}, the best unsliced tree found\n",
+                        ops_str(s.tree_total_ops_log2),
+                        ops_str(first.total_ops_log2),
+                    ));
+                }
+            }
         }
         if let Some(b) = self.overhead_lower_bound.as_ref().filter(|_| self.fits) {
             out.push_str(&format!(

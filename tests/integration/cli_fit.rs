@@ -97,3 +97,31 @@ fn bad_budgets_exit_2() {
         assert!(err.contains("--budget"), "{bad}: {err}");
     }
 }
+
+/// One story per screen: when slicing re-planned the tree, the unsliced
+/// figure of that tree and the baseline of the overheads (the frontier's
+/// first row) are both named, in `fit` and in `report` of the plan.
+#[test]
+fn a_re_planned_tree_is_named_beside_the_baseline() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data/ising-6x6.toml");
+    let plan = dir.path().join("p.plan.toml");
+    let plan = plan.to_str().unwrap();
+    let args = [
+        "plan", demo, "--budget", "6KiB", "--trials", "32", "-o", plan,
+    ];
+    let (code, _, err) = sliceplan(&[&args[..], &["--json"]].concat());
+    assert_eq!(code, Some(0), "{err}");
+    let (code, json, err) = sliceplan(&["report", plan, "--json"]);
+    assert_eq!(code, Some(0), "{err}");
+    let v: serde_json::Value = serde_json::from_str(&json).unwrap();
+    let tree_ops = v["slicing"]["tree_total_ops_log2"].as_f64().unwrap();
+    let baseline = v["frontier"][0]["total_ops_log2"].as_f64().unwrap();
+    // The overhead is over the baseline (the frontier's first row).
+    let overhead = v["slicing"]["overhead"].as_f64().unwrap();
+    let total = v["slicing"]["total_ops_log2"].as_f64().unwrap();
+    assert!((overhead - (total - baseline).exp2()).abs() < 1e-9 * overhead);
+    let (_, text, _) = sliceplan(&["report", plan]);
+    let named = text.contains("re-planned for slicing");
+    assert_eq!(named, (tree_ops - baseline).abs() > 1e-9, "{text}");
+}
