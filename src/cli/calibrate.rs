@@ -12,7 +12,7 @@ use sliceplan::error::Result;
 pub(super) const EXAMPLES: &str = "Examples:
   sliceplan calibrate                      # writes ~/.config/sliceplan/machines/<host>.toml
   sliceplan calibrate -o node-a            # writes ~/.config/sliceplan/machines/node-a.toml
-  sliceplan calibrate -o profiles/node-a.toml --max-threads 16
+  sliceplan calibrate -o node-b.toml --max-threads 16   # a file in this directory
   sliceplan fit ising.toml --machine node-a
 
 Takes about 8 s per thread count measured (1, 2, 4, ... and all cores):

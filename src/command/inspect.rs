@@ -94,7 +94,7 @@ const BASELINE_MAX_ENTRIES: u64 = 100_000_000;
 /// 60,000-qubit circuit's file-order tree holds about 2 x 10^9 and took 29 s
 /// and 5 GB); then one plain greedy trial, which is linear.
 fn baseline(net: &crate::network::Network) -> Result<(Tree, String)> {
-    let entries = file_order_entries(net);
+    let entries = crate::search::file_order_entries(net);
     if entries <= BASELINE_MAX_ENTRIES {
         return Ok((
             Tree::left_deep(net.num_tensors()),
@@ -116,31 +116,4 @@ fn baseline(net: &crate::network::Network) -> Result<(Tree, String)> {
         found.tree,
         format!("baseline: one greedy trial (the file-order tree would hold {entries} index entries; run `sliceplan plan` to search for a good tree)"),
     ))
-}
-
-/// Index entries of the intermediates of the file-order (left-deep) tree:
-/// the sum over merges of the indices alive in the running result.
-fn file_order_entries(net: &crate::network::Network) -> u64 {
-    let mut remaining: Vec<u32> = vec![0; net.num_indices()];
-    for t in &net.tensors {
-        for &e in &t.indices {
-            remaining[e] += 1;
-        }
-    }
-    let open = net.open_mask();
-    let mut seen = vec![false; net.num_indices()];
-    let (mut live, mut total) = (0u64, 0u64);
-    for t in &net.tensors {
-        for &e in &t.indices {
-            if !std::mem::replace(&mut seen[e], true) {
-                live += 1;
-            }
-            remaining[e] -= 1;
-            if remaining[e] == 0 && !open[e] {
-                live -= 1;
-            }
-        }
-        total = total.saturating_add(live);
-    }
-    total
 }

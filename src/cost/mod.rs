@@ -479,7 +479,7 @@ pub struct NodeRow {
 }
 
 /// Merges two sorted (index, count) lists, adding counts of shared indices.
-fn merge_counts(a: &[(IndexId, u32)], b: &[(IndexId, u32)]) -> Vec<(IndexId, u32)> {
+pub(crate) fn merge_counts(a: &[(IndexId, u32)], b: &[(IndexId, u32)]) -> Vec<(IndexId, u32)> {
     let mut out = Vec::with_capacity(a.len() + b.len());
     let (mut i, mut j) = (0, 0);
     while i < a.len() && j < b.len() {

@@ -33,7 +33,7 @@
 //! ```
 
 use crate::cost::peak::{min_peak_schedule, Job};
-use crate::cost::Metrics;
+use crate::cost::{merge_counts, Metrics};
 use crate::network::Network;
 use crate::num::{product, Count};
 use crate::tree::Tree;
@@ -343,30 +343,4 @@ where
         level = high - s[a] - s[b];
     }
     Some(peak)
-}
-
-/// Merges two sorted (index, count) lists, adding counts of shared indices.
-fn merge_counts(a: &[(usize, u32)], b: &[(usize, u32)]) -> Vec<(usize, u32)> {
-    let mut out = Vec::with_capacity(a.len() + b.len());
-    let (mut i, mut j) = (0, 0);
-    while i < a.len() && j < b.len() {
-        match a[i].0.cmp(&b[j].0) {
-            std::cmp::Ordering::Less => {
-                out.push(a[i]);
-                i += 1;
-            }
-            std::cmp::Ordering::Greater => {
-                out.push(b[j]);
-                j += 1;
-            }
-            std::cmp::Ordering::Equal => {
-                out.push((a[i].0, a[i].1 + b[j].1));
-                i += 1;
-                j += 1;
-            }
-        }
-    }
-    out.extend_from_slice(&a[i..]);
-    out.extend_from_slice(&b[j..]);
-    out
 }

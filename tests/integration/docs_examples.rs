@@ -85,8 +85,6 @@ fn page_commands(text: &str) -> Vec<String> {
                 .filter(|l| l.starts_with("sliceplan ") || l.starts_with("scripts/"))
         };
         if let Some(c) = cmd {
-            // A trailing `# ...` is a comment, as in a shell.
-            let c = c.split(" # ").next().unwrap_or(c);
             out.push(c.trim().to_string());
         }
     }
@@ -99,6 +97,8 @@ fn run_page(name: &str, commands: &[String]) -> Vec<String> {
     let mut failures = Vec::new();
     let mut after_sbatch = false;
     for line in commands {
+        // A trailing ` # ...` is a comment, as in a shell.
+        let line = line.split(" # ").next().unwrap_or(line.as_str());
         let w = words(line);
         match w.first().map(String::as_str) {
             Some("sbatch") => {
