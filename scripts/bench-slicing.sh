@@ -5,7 +5,7 @@
 # default. Prints overheads with reuse, plain, and the floor; asserts
 # nothing. About 70 cases: a full run takes over an hour.
 #
-# Usage: scripts/bench-slicing.sh [--time SECONDS] [--seeds N] [--reductions 5,10,15] [FAMILY-SUBSTRING ...]
+# Usage: scripts/bench-slicing.sh [--time SECONDS] [--seeds N] [--reductions 5,10,15] [--no-reuse] [FAMILY-SUBSTRING ...]
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release --quiet --bin bench-slicing

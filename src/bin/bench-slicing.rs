@@ -7,7 +7,7 @@
 //! the targets; asserts nothing. Run with
 //! `scripts/bench-slicing.sh`.
 //!
-//! Usage: `bench-slicing [--time SECONDS] [--seeds N] [--threads T]
+//! Usage: `bench-slicing [--time SECONDS] [--seeds N] [--threads T] [--no-reuse]
 //! [--reductions 5,10,15] [FAMILY-SUBSTRING ...]`.
 //!
 //! The budget of a case is the process's fixed part (inputs, output
@@ -52,6 +52,7 @@ fn main() {
     let mut seeds = 5u64;
     let mut reductions: Vec<u32> = vec![5, 10, 15];
     let mut threads = 0usize;
+    let mut reuse = true;
     let mut which: Vec<String> = Vec::new();
     let mut args = std::env::args().skip(1);
     while let Some(a) = args.next() {
@@ -73,6 +74,7 @@ fn main() {
                     })
                     .expect("--reductions R,R,...")
             }
+            "--no-reuse" => reuse = false,
             "--threads" => {
                 threads = args
                     .next()
@@ -141,6 +143,7 @@ fn main() {
             );
             opts.budget_bytes = Some(budget);
             opts.dtype = Some(DTYPE);
+            opts.reuse = reuse;
             let began = Instant::now();
             let outcome = fit(&opts, &Hooks::quiet()).expect("fit runs");
             let seconds = began.elapsed().as_secs_f64();
