@@ -5,7 +5,7 @@
 # outputs can be refreshed from a real run rather than edited by hand.
 # Uses the release binary (built if missing). About a minute.
 #
-# Usage: scripts/cluster-walkthrough.sh > transcript.txt
+# Usage: scripts/cluster-walkthrough.sh > walkthrough-output.txt
 set -uo pipefail
 root=$(cd "$(dirname "$0")/.." && pwd)
 cargo build --release --quiet --bin sliceplan --manifest-path "$root/Cargo.toml" >&2 || exit 1
