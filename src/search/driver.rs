@@ -95,6 +95,7 @@ use super::trial::arms;
 use crate::error::{Error, Result};
 use crate::network::{IndexId, Network};
 use crate::num::log2_add;
+use crate::tree::Tree;
 
 /// Networks up to this many tensors (after simplification) get an exact
 /// candidate.
@@ -143,14 +144,21 @@ pub(super) struct Found {
     pub(super) at: Duration,
 }
 
-/// The best few distinct trees so far.
+/// The best few distinct trees so far, and the width/ops front.
 #[derive(Default)]
 pub(super) struct Pool {
     pub(super) top: Vec<Found>,
+    /// Trees no other tree beats on both width and total ops, at most one
+    /// per whole width, when kept at all (`keep_front`).
+    pub(super) front: Vec<Found>,
+    pub(super) keep_front: bool,
 }
 
 impl Pool {
     pub(super) fn insert(&mut self, f: Found) {
+        if self.keep_front {
+            self.offer_front(&f);
+        }
         if let Some(old) = self.top.iter_mut().find(|o| o.key == f.key) {
             if f.seq < old.seq {
                 *old = f;
@@ -165,7 +173,42 @@ impl Pool {
     pub(super) fn best(&self) -> Option<&Found> {
         self.top.first()
     }
+
+    /// Keeps `f` on the front when no kept tree is as narrow and as cheap
+    /// (within the same whole width, the cheaper one stays), at most
+    /// [`FRONT_KEEP`] trees (the costliest go first).
+    fn offer_front(&mut self, f: &Found) {
+        let (w, o) = (f.measures.width, f.measures.total_ops_log2);
+        let bucket = |x: f64| (x + 1e-9).floor() as i64;
+        let beaten = |g: &Found| {
+            let (gw, go) = (g.measures.width, g.measures.total_ops_log2);
+            go <= o + 1e-9 && (gw <= w + 1e-9 || bucket(gw) == bucket(w))
+        };
+        if self.front.iter().any(beaten) {
+            return;
+        }
+        self.front.retain(|g| {
+            let (gw, go) = (g.measures.width, g.measures.total_ops_log2);
+            !(o <= go + 1e-9 && (w <= gw + 1e-9 || bucket(gw) == bucket(w)))
+        });
+        self.front.push(f.clone());
+        if self.front.len() > FRONT_KEEP {
+            self.front.sort_by(|a, b| {
+                a.measures
+                    .total_ops_log2
+                    .total_cmp(&b.measures.total_ops_log2)
+            });
+            self.front.truncate(FRONT_KEEP);
+        }
+    }
 }
+
+/// Trees kept on the width/ops front (see [`SearchResult::front`]).
+const FRONT_KEEP: usize = 10;
+
+/// Networks above this many tensors keep no front (each tree on it holds
+/// a merge list as long as the network).
+const FRONT_MAX_TENSORS: usize = 20_000;
 
 /// Searches with the options; see the module docs.
 pub fn find_tree(net: &Network, opts: &SearchOptions) -> Result<SearchResult> {
@@ -228,7 +271,10 @@ pub fn find_tree_with(
         progress,
         stop,
         trials_done: AtomicU64::new(0),
-        found: Mutex::new(Pool::default()),
+        found: Mutex::new(Pool {
+            keep_front: net.num_tensors() <= FRONT_MAX_TENSORS,
+            ..Pool::default()
+        }),
         expected: Mutex::new(Vec::new()),
         candidate_times: Mutex::new(Vec::new()),
     };
@@ -310,6 +356,18 @@ pub fn find_tree_with(
     let best = ctx.take_best();
     let tree = problems[best.problem].expand(&best.merges);
     let metrics = tree_metrics(net, &tree);
+    let mut front: Vec<Tree> = {
+        let mut pool = ctx.lock();
+        pool.front
+            .sort_by(|a, b| a.measures.width.total_cmp(&b.measures.width));
+        pool.front
+            .iter()
+            .map(|f| problems[f.problem].expand(&f.merges))
+            .collect()
+    };
+    // Only trees narrower than the best are of use (ties of the best tree
+    // on ops and width are dropped too).
+    front.retain(|t| *t != tree && tree_metrics(net, t).width < metrics.width - 1e-9);
     let (lower_bound, op_width_lower_bound) = match bounds {
         Some(b) => b,
         None => lower_bounds(net),
@@ -328,6 +386,7 @@ pub fn find_tree_with(
         op_width_lower_bound,
         phases,
         candidates,
+        front,
     })
 }
 

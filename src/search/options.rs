@@ -202,4 +202,10 @@ pub struct SearchResult {
     /// The simple orders priced before the trials (those that finished in
     /// time), in the order they were priced.
     pub candidates: Vec<CandidateScore>,
+    /// Other trees met on the way that no tree met beats on both width and
+    /// total ops (at most one per whole width, narrowest first; the best
+    /// tree left out): starting points for slicing, which may prefer a
+    /// narrower tree to the cheapest. Empty for networks of over 20,000
+    /// tensors.
+    pub front: Vec<Tree>,
 }

@@ -165,3 +165,44 @@ fn small_networks_end_once_the_exact_optimum_is_proven() {
     .unwrap();
     assert_eq!(found.metrics.total_ops.exact, Some(15125)); // CLRS 15.2
 }
+
+/// The search's front: every tree on it is narrower and costlier than the
+/// best tree (which has the least total ops of all trees met), and along it
+/// width rises while total ops fall (no tree on it beats another on both).
+/// Widths and ops are recomputed by the cost model from the trees. One
+/// thread, so the trials and their front are the same on every run.
+#[test]
+fn front_trees_trade_ops_for_width() {
+    let mut kept = 0;
+    for net in [
+        sliceplan::generate::brickwork(4, 4, 10, 3).unwrap(),
+        sliceplan::generate::brickwork(5, 5, 12, 1).unwrap(),
+        sliceplan::generate::lattice(&[8, 8], 2, false).unwrap(),
+    ] {
+        let mut opts = SearchOptions::trials(64, 1);
+        opts.threads = 1;
+        let r = find_tree(&net, &opts).unwrap();
+        let best = metrics(&net, &r.tree);
+        let mut last: Option<Metrics> = None;
+        for t in &r.front {
+            let m = metrics(&net, t);
+            assert!(
+                m.width < best.width - 1e-9,
+                "{} vs best {}",
+                m.width,
+                best.width
+            );
+            assert!(m.total_ops.log2 > best.total_ops.log2 - 1e-9);
+            if let Some(l) = &last {
+                assert!(m.width > l.width + 1e-9);
+                assert!(m.total_ops.log2 < l.total_ops.log2 + 1e-9);
+            }
+            last = Some(m);
+        }
+        kept += r.front.len();
+    }
+    assert!(
+        kept > 0,
+        "no network kept a front tree: the check above saw nothing"
+    );
+}
