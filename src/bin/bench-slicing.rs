@@ -135,6 +135,13 @@ fn main() {
         let fixed = inputs_bytes(&case.net, DTYPE) + output_bytes(&case.net, DTYPE);
         for &reduction in &reductions {
             let budget = (fixed + peak / 2f64.powi(reduction as i32)).ceil() as u64;
+            eprintln!(
+                "{} seed {} 2^{reduction}: reference tree peak 2^{:.2} bytes (width {:.1}), budget {budget} bytes",
+                case.family,
+                case.seed,
+                peak.log2(),
+                reference.metrics.width
+            );
             let mut search = SearchOptions::time(Duration::from_secs_f64(time), 1);
             search.threads = threads;
             let mut opts = FitOptions::new(
