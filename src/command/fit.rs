@@ -238,6 +238,7 @@ fn slice_and_report(
     let advice = advise(
         net,
         &found.tree,
+        &found.front,
         &base,
         targets,
         refit.as_deref_mut(),

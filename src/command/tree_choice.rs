@@ -44,6 +44,7 @@ impl TreeChoice {
                 lower_bound: width_lower_bound(net),
                 search: None,
                 options: None,
+                front: Vec::new(),
             }),
             TreeChoice::Search(options) => {
                 let progress = |p: &crate::search::Progress| (hooks.progress)(Event::Search(p));
@@ -67,6 +68,7 @@ impl TreeChoice {
                         candidates: s.candidates.clone(),
                     }),
                     lower_bound: s.lower_bound,
+                    front: s.front,
                     tree: s.tree,
                     options: Some(options.clone()),
                 })
@@ -88,6 +90,9 @@ pub struct Found {
     pub search: Option<SearchReport>,
     /// The search options, for re-planning (`None` for a tree file).
     options: Option<SearchOptions>,
+    /// Other trees of the search's width/ops front, narrowest first (empty
+    /// for a tree file): slicing may start from them.
+    pub front: Vec<Tree>,
 }
 
 impl Found {

@@ -73,10 +73,12 @@ impl Advice {
 /// Runs the slicing search for every target and estimates times on the
 /// machine targets. `base` carries the search settings; its budget and
 /// slices at once are replaced by each target's, and the time left before
-/// its deadline is shared equally by the targets still to do.
+/// its deadline is shared equally by the targets still to do. `front`:
+/// other trees slicing may start from (see [`find_slices`]).
 pub fn advise(
     net: &Network,
     tree: &crate::tree::Tree,
+    front: &[crate::tree::Tree],
     base: &SliceOptions,
     targets: &[Target],
     mut refit: Option<&mut Refit<'_>>,
@@ -92,7 +94,7 @@ pub fn advise(
             let left = d.saturating_duration_since(now);
             opts.deadline = Some(now + left / (targets.len() - i) as u32);
         }
-        let result = find_slices(net, tree, &opts, refit.as_deref_mut(), rounds);
+        let result = find_slices(net, tree, front, &opts, refit.as_deref_mut(), rounds);
         let estimate = target.machine.as_ref().map(|m| {
             let sets = NodeSets::new(net, &result.tree);
             match &result.chosen {

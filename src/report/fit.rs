@@ -702,5 +702,6 @@ fn origin_name(o: Origin) -> &'static str {
         Origin::Cooptimised => "greedy with tree re-planning",
         Origin::SliceAware => "slice-aware search",
         Origin::Exhaustive => "exhaustive search",
+        Origin::SearchFront => "greedy on a narrower searched tree",
     }
 }

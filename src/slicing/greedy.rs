@@ -119,11 +119,14 @@ pub fn interleaved(
     let mut current = Point::evaluate(&sets, net, &[], opts);
     let mut out = Vec::new();
     let mut refits = 0;
-    while !current.fits(opts) && !opts.out_of_time() {
+    // Past the deadline no re-planning starts, but the cheap greedy steps
+    // go on to the first fitting set: stopping short would throw away the
+    // re-planned tree (and every set on it) for lack of a few steps.
+    while !current.fits(opts) {
         let Some(mut next) = step(&sets, net, opts, &current) else {
             break;
         };
-        if refits < max_refits {
+        if refits < max_refits && !opts.out_of_time() {
             refits += 1;
             // Ask for the fewest ops at no more than the width just reached.
             if let Some(other) = refit(net, &next.sliced, next.per_slice_width) {
@@ -271,3 +274,80 @@ pub fn binding_indices(sets: &NodeSets, dims: &Dims, order: &[usize]) -> Vec<Ind
     out.sort_by(|a, b| b.1.total_cmp(&a.1).then(a.0.cmp(&b.0)));
     out.into_iter().map(|(e, _)| e).collect()
 }
+
+/// Local search over slice sets on a fixed tree, from a fitting `point`:
+/// tries to drop each sliced index, or to swap it for one of the indices
+/// live where the set without it reaches its peak, and moves to the first
+/// fitting set with fewer total ops; repeats until a whole pass finds no
+/// move or `max_passes` passes are done. Returns the best set found (the
+/// start when nothing beats it).
+///
+/// The greedy builds a set one index at a time and never takes back an
+/// early choice that later ones made needless or costly; the swaps do.
+///
+/// # Complexity
+///
+/// Per pass: |set| x (1 + `SWAP_CANDIDATES`) pricings of O(n log n).
+pub fn swap_search(
+    sets: &NodeSets,
+    net: &Network,
+    opts: &SliceOptions,
+    point: &Point,
+    max_passes: usize,
+) -> Point {
+    let mut best = point.clone();
+    if !best.fits(opts) {
+        return best;
+    }
+    let better = |p: &Point, b: &Point| {
+        p.fits(opts)
+            && (p.total_ops.log2 < b.total_ops.log2 - 1e-9
+                || (p.total_ops.log2 <= b.total_ops.log2 + 1e-9
+                    && p.slices.log2 < b.slices.log2 - 1e-9))
+    };
+    for _ in 0..max_passes {
+        let mut moved = false;
+        let mut i = 0;
+        while i < best.sliced.len() {
+            if opts.out_of_time() {
+                return best;
+            }
+            let out = best.sliced[i];
+            let rest: Vec<IndexId> = best.sliced.iter().copied().filter(|&e| e != out).collect();
+            let without = Point::evaluate(sets, net, &rest, opts);
+            if better(&without, &best) {
+                best = without;
+                moved = true;
+                continue;
+            }
+            let dims = Dims::sliced(net, &rest);
+            let mut found: Option<Point> = None;
+            for e in binding_indices(sets, &dims, &without.order)
+                .into_iter()
+                .filter(|&e| e != out && !rest.contains(&e) && dims.dim[e] > 1)
+                .take(SWAP_CANDIDATES)
+            {
+                let mut sliced = rest.clone();
+                sliced.push(e);
+                let p = Point::evaluate(sets, net, &sliced, opts);
+                if p.slices.log2 <= opts.max_slices_log2
+                    && better(&p, found.as_ref().unwrap_or(&best))
+                {
+                    found = Some(p);
+                }
+            }
+            if let Some(p) = found {
+                best = p;
+                moved = true;
+            }
+            i += 1;
+        }
+        if !moved {
+            break;
+        }
+    }
+    best
+}
+
+/// Replacement indices priced per swap in [`swap_search`].
+const SWAP_CANDIDATES: usize = 16;

@@ -25,11 +25,12 @@
 //!
 //! # Budget
 //!
-//! No round starts after the deadline, and reconfiguration takes the
-//! deadline too, so a call ends within one pricing round of it. Without a
-//! deadline the work is bounded by counts: at most
-//! `2 x (log2 of the needed reduction) + 8` rounds per start, one
-//! reconfiguration pass per round.
+//! No reconfiguration starts after the deadline, and reconfiguration takes
+//! the deadline too. Past it, only the slicing steps (one pricing round
+//! each) continue, up to the first fitting set, so that the reconfigured
+//! tree is not lost for want of a few cheap steps. Reconfiguration is also
+//! bounded by counts: at most `2 x (log2 of the needed reduction) + 8`
+//! rounds per start, one pass per round.
 //!
 //! # Complexity
 //!
@@ -71,23 +72,36 @@ use crate::tree::Tree;
 const WINDOW: usize = 6;
 
 /// Runs [`descend`] from each tree in `starts` in turn, giving each an
-/// equal share of the time left before `opts.deadline`. Returns every
-/// point met with its tree.
+/// equal share of the time left before `opts.deadline`; while time is
+/// left (with a deadline), goes round the starts again with new seeds
+/// (other reconfiguration windows), at most [`MAX_ROUNDS`] times. Returns
+/// every point met with its tree.
 pub fn search(net: &Network, starts: &[Tree], opts: &SliceOptions) -> Vec<(Point, Tree)> {
     let mut out = Vec::new();
-    for (i, start) in starts.iter().enumerate() {
-        if opts.out_of_time() {
-            break;
+    let rounds = if opts.deadline.is_some() {
+        MAX_ROUNDS
+    } else {
+        1
+    };
+    for round in 0..rounds {
+        for (i, start) in starts.iter().enumerate() {
+            if opts.out_of_time() {
+                return out;
+            }
+            let mut o = opts.clone();
+            if let Some(d) = opts.deadline {
+                let left = d.saturating_duration_since(Instant::now());
+                o.deadline = Some(Instant::now() + left / (starts.len() - i) as u32);
+            }
+            let seed = (round * starts.len() + i) as u64;
+            out.extend(descend(net, start, &o, seed));
         }
-        let mut o = opts.clone();
-        if let Some(d) = opts.deadline {
-            let left = d.saturating_duration_since(Instant::now());
-            o.deadline = Some(Instant::now() + left / (starts.len() - i) as u32);
-        }
-        out.extend(descend(net, start, &o, i as u64));
     }
     out
 }
+
+/// Rounds of restarts [`search`] makes when time is left.
+const MAX_ROUNDS: usize = 16;
 
 /// Slices and reconfigures from `start` until the process fits (see the
 /// module docs); `seed` varies the reconfiguration windows.
@@ -102,11 +116,18 @@ pub fn descend(net: &Network, start: &Tree, opts: &SliceOptions, seed: u64) -> V
     let needed = (current.excess_log2() - target.max(1.0).log2()).max(0.0);
     let max_rounds = 2 * needed.ceil() as usize + 8;
     let mut rounds = 0;
-    while !current.fits(opts) && rounds < max_rounds && !opts.out_of_time() {
-        rounds += 1;
+    // Past the deadline or the round cap no reconfiguration starts, but the
+    // cheap slicing steps go on to the first fitting set.
+    while !current.fits(opts) {
         let Some(mut next) = step(&sets, net, opts, &current) else {
             break;
         };
+        if rounds >= max_rounds || opts.out_of_time() {
+            out.push((next.clone(), tree.clone()));
+            current = next;
+            continue;
+        }
+        rounds += 1;
         set_weights(&mut problem, &weights, &next.sliced);
         if let Some((t, s, p)) = reconfigure(
             net,

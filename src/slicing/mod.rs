@@ -244,6 +244,9 @@ pub enum Origin {
     SliceAware,
     /// Every slice set of a few indices (small networks).
     Exhaustive,
+    /// The greedy on another tree of the search's width/ops front (a
+    /// narrower tree than the cheapest).
+    SearchFront,
 }
 
 /// What the cover programme proved and proposed.
@@ -331,6 +334,48 @@ impl Pool {
         }
     }
 
+    /// Swap search ([`greedy::swap_search`]) from the best fitting sets of
+    /// the [`POLISHED_TREES`] trees whose best sets are cheapest.
+    fn polish(&mut self, net: &Network, opts: &SliceOptions) {
+        let mut best_per_tree: Vec<usize> = Vec::new();
+        for (i, s) in self.seen.iter().enumerate() {
+            if !s.point.fits(opts) {
+                continue;
+            }
+            match best_per_tree
+                .iter_mut()
+                .find(|j| self.seen[**j].tree == s.tree)
+            {
+                Some(j) if by_ops_key(&s.point) < by_ops_key(&self.seen[*j].point) => *j = i,
+                Some(_) => {}
+                None => best_per_tree.push(i),
+            }
+        }
+        best_per_tree.sort_by_key(|&i| by_ops_key(&self.seen[i].point));
+        best_per_tree.truncate(POLISHED_TREES);
+        for i in best_per_tree {
+            if opts.out_of_time() {
+                break;
+            }
+            let (tree, origin) = (self.seen[i].tree, self.seen[i].origin);
+            let sets = NodeSets::new(net, &self.trees[tree]);
+            let p = greedy::swap_search(&sets, net, opts, &self.seen[i].point, 3);
+            if by_ops_key(&p) < by_ops_key(&self.seen[i].point) {
+                self.add([p], origin, tree);
+            }
+        }
+    }
+
+    /// log2 total ops of the best fitting set seen on tree `id` (infinity
+    /// when none fits).
+    fn best_fitting(&self, id: usize, opts: &SliceOptions) -> f64 {
+        self.seen
+            .iter()
+            .filter(|s| s.tree == id && s.point.fits(opts))
+            .map(|s| s.point.total_ops.log2)
+            .fold(f64::INFINITY, f64::min)
+    }
+
     /// The greedy trail on tree `id` and its first fitting set, pruned.
     fn greedy_on(&mut self, net: &Network, id: usize, opts: &SliceOptions, origin: Origin) {
         let sets = NodeSets::new(net, &self.trees[id]);
@@ -350,20 +395,26 @@ impl Pool {
 /// `opts.deadline`; the shares are of the time left at the call):
 ///
 /// 1. the greedy on `tree`, and every set of up to three indices when
-///    there are few;
+///    there are few; with `refit`, the greedy on every tree of `front`
+///    (other trees of the search's width/ops front);
 /// 2. with `refit` (the tree may change): the slice-aware search
-///    ([`joint::descend`]) from `tree` (until 35%);
+///    ([`joint::search`]) from `tree`, restarted with other
+///    reconfiguration windows while time is left (until 35%);
 /// 3. with `refit`: trees re-planned from the start for a smaller width
 ///    (the whole needed reduction, and half of it), sliced greedily;
-/// 4. with `refit`: the slice-aware search from those trees and from
-///    min-fill and min-degree elimination trees (until 75%);
+/// 4. with `refit`: the slice-aware search from the front trees whose
+///    greedy sets are cheapest, those re-planned trees, and min-fill and
+///    min-degree elimination trees (until 75%);
 /// 5. with `refit`: the greedy that re-plans the whole tree after each
 ///    index it adds, at most `rounds` times (until 92%);
-/// 6. the cover programme on the tree of the best set so far, and the
+/// 6. the swap search ([`greedy::swap_search`]) from the best sets of the
+///    best few trees (until 95%);
+/// 7. the cover programme on the tree of the best set so far, and the
 ///    lower bound on total ops for the chosen tree ([`bound`]).
 pub fn find_slices(
     net: &Network,
     tree: &Tree,
+    front: &[Tree],
     opts: &SliceOptions,
     mut refit: Option<&mut Refit<'_>>,
     rounds: usize,
@@ -392,14 +443,35 @@ pub fn find_slices(
     // Only with `refit` may the tree change: without it (a tree the user
     // gave) every set is priced on `tree`.
     if !unsliced.fits(opts) && refit.is_some() {
+        // The search's narrower trees, sliced greedily (cheap): those that
+        // do best become starts of the slice-aware search below.
+        let mut front_ids = Vec::new();
+        for t in front {
+            if opts.out_of_time() {
+                break;
+            }
+            let id = pool.tree_id(t.clone());
+            if id != 0 && !front_ids.contains(&id) {
+                pool.greedy_on(net, id, opts, Origin::SearchFront);
+                front_ids.push(id);
+            }
+        }
         let o = share(0.35);
         if !o.out_of_time() {
-            pool.add_with_trees(joint::descend(net, tree, &o, 0), Origin::SliceAware);
+            let found = joint::search(net, std::slice::from_ref(tree), &o);
+            pool.add_with_trees(found, Origin::SliceAware);
         }
         // Trees planned from the start for a smaller width: the need must
         // come down by `needed` (log2); ask for a width lower by all of
         // it, and by half of it.
-        let mut starts = Vec::new();
+        let mut starts: Vec<Tree> = Vec::new();
+        front_ids.sort_by(|&a, &b| {
+            pool.best_fitting(a, opts)
+                .total_cmp(&pool.best_fitting(b, opts))
+        });
+        for &id in front_ids.iter().take(FRONT_STARTS) {
+            starts.push(pool.trees[id].clone());
+        }
         if let Some(refit) = refit.as_mut() {
             let target = opts.avail_elements(net) * opts.dtype.bytes() as f64;
             let needed = unsliced.excess_log2() - target.max(1.0).log2();
@@ -438,6 +510,7 @@ pub fn find_slices(
             }
         }
     }
+    pool.polish(net, &share(0.95));
     let seen = &pool.seen;
     // The cover programme runs on the tree of the best set so far.
     let final_tree = pick(seen, opts, by_ops_key)
@@ -489,6 +562,13 @@ pub fn find_slices(
         bound,
     }
 }
+
+/// Trees of the search's front that the slice-aware search starts from
+/// (those whose greedy sets are cheapest).
+const FRONT_STARTS: usize = 3;
+
+/// Trees whose best fitting sets the swap search polishes.
+const POLISHED_TREES: usize = 4;
 
 /// Networks above this many tensors get no elimination-tree restarts.
 const ELIMINATION_START_MAX: usize = 20_000;

@@ -72,7 +72,7 @@ fn fewest_slices_matches_enumeration_of_sets_up_to_three() {
         let budget = (fixed + (unsliced - fixed) * rng.random_range(0.05..0.9)) as u64;
         let mut opts = SliceOptions::new(budget, Dtype::F64);
         opts.cover = case % 2 == 0;
-        let found = find_slices(&net, &tree, &opts, None, 0);
+        let found = find_slices(&net, &tree, &[], &opts, None, 0);
         let want = enumerate_min_slices(&net, &tree, &opts);
         match (found.fewest_slices.as_ref(), want) {
             (Some(p), Some((slices, _))) => {
@@ -150,7 +150,7 @@ fn frontier_peak_never_increases() {
         (need.fixed_bytes() + need.per_slice_peak_bytes / 16.0) as u64,
         Dtype::C64,
     );
-    let r = find_slices(&net, &tree, &opts, None, 0);
+    let r = find_slices(&net, &tree, &[], &opts, None, 0);
     assert!(r.chosen.is_some());
     assert!(r.frontier.len() >= 3);
     for w in r.frontier.windows(2) {
@@ -172,7 +172,80 @@ fn output_larger_than_the_budget_cannot_fit() {
         sliceplan::formats::einsum::network_from_einsum("ab,bc->ac", Some(1024), &[]).unwrap();
     let tree = Tree::left_deep(2);
     let opts = SliceOptions::new(1 << 20, Dtype::C64);
-    let r = find_slices(&net, &tree, &opts, None, 0);
+    let r = find_slices(&net, &tree, &[], &opts, None, 0);
     assert!(r.chosen.is_none());
     assert!(r.smallest_need_bytes > (8 << 20) as f64);
+}
+
+/// Past the deadline, the re-planning greedy and the slice-aware descent
+/// start no re-planning, but slice on to a set that fits. The budget, one
+/// 64th of the unsliced per-slice peak, is checked by the cost model's
+/// memory rule priced directly (reuse off, so no held intermediates).
+#[test]
+fn slicing_searches_reach_a_fit_past_their_deadline() {
+    use sliceplan::slicing::{greedy, joint};
+    let net = lattice(&[6, 6], 2, false).unwrap();
+    let tree = Tree::left_deep(net.num_tensors());
+    let sets = NodeSets::new(&net, &tree);
+    let need = memory_need(&sets, &net, &[], Dtype::F64, 1);
+    let budget = (need.fixed_bytes() + need.per_slice_peak_bytes / 64.0) as u64;
+    let mut opts = SliceOptions::new(budget, Dtype::F64);
+    opts.reuse = false;
+    opts.deadline = Some(std::time::Instant::now());
+    let fits =
+        |k: &[IndexId]| memory_need(&sets, &net, k, Dtype::F64, 1).total_bytes() <= budget as f64;
+    let mut refit = |_: &Network, _: &[IndexId], _: f64| -> Option<Tree> {
+        panic!("no re-planning may start past the deadline")
+    };
+    let found = greedy::interleaved(&net, &tree, &opts, &mut refit, 8);
+    let (last, last_tree) = found.last().expect("points");
+    assert_eq!(*last_tree, tree);
+    assert!(fits(&last.sliced), "re-planning greedy: {:?}", last.sliced);
+    let found = joint::descend(&net, &tree, &opts, 0);
+    assert!(
+        found.iter().any(|(p, t)| *t == tree && fits(&p.sliced)),
+        "slice-aware descent found no fitting set"
+    );
+}
+
+/// The swap search moves only to fitting sets with fewer total ops: from
+/// the greedy's first fitting set on random networks and trees, its set
+/// fits by the memory rule priced directly and costs no more; over the
+/// cases it improves some.
+#[test]
+fn swap_search_keeps_a_fit_and_never_costs_more() {
+    use sliceplan::slicing::greedy;
+    let mut rng = ChaCha8Rng::seed_from_u64(47);
+    let (mut tried, mut improved) = (0, 0);
+    for case in 0..300 {
+        let net = random_network(&mut rng);
+        let tree = random_tree(&mut rng, net.num_tensors());
+        let sets = NodeSets::new(&net, &tree);
+        let need = memory_need(&sets, &net, &[], Dtype::F64, 1);
+        let fixed = need.fixed_bytes();
+        let budget = (fixed + (need.total_bytes() - fixed) * rng.random_range(0.02..0.5)) as u64;
+        let mut opts = SliceOptions::new(budget, Dtype::F64);
+        opts.reuse = false;
+        let trail = greedy::greedy(&sets, &net, &opts, &[]);
+        let Some(start) = trail.iter().find(|p| p.fits(&opts)) else {
+            continue;
+        };
+        tried += 1;
+        let p = greedy::swap_search(&sets, &net, &opts, start, 3);
+        let direct = memory_need(&sets, &net, &p.sliced, Dtype::F64, 1).total_bytes();
+        assert!(direct <= budget as f64, "case {case}: {direct} > {budget}");
+        assert!(
+            p.total_ops.log2 <= start.total_ops.log2 + 1e-9,
+            "case {case}"
+        );
+        if p.total_ops.log2 < start.total_ops.log2 - 1e-9 {
+            improved += 1;
+        }
+    }
+    assert!(tried >= 100, "only {tried} cases had a fitting greedy set");
+    assert!(
+        improved > 0,
+        "the swap search improved none of {tried} cases"
+    );
+    eprintln!("swap search improved {improved} of {tried} greedy sets");
 }
