@@ -11,7 +11,7 @@ use std::time::{Duration, Instant};
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 
-use super::baseline::sweep_order;
+use super::baseline::{component_file_order, sweep_order};
 use super::bound::{lower_bounds, WidthBound};
 use super::dissect::{dissection_tree, DissectParams};
 use super::driver::{trial_seed, Ctx, Found, CANDIDATE_SHARE, EXACT_AUTO};
@@ -94,6 +94,15 @@ impl Ctx<'_> {
             let sweep = self.sequence(seq, &order, "sweep");
             note(&sweep, began.elapsed(), &mut scores);
             self.offer(sweep);
+        }
+        seq += 1;
+        if !self.stop.load(Ordering::SeqCst) {
+            let began = Instant::now();
+            if let Some(order) = component_file_order(p) {
+                let f = self.sequence(seq, &order, "file-order-by-component");
+                note(&f, began.elapsed(), &mut scores);
+                self.offer(f);
+            }
         }
         seq += 1;
         // The parallel batch, cut at 40% of the budget (a finder that is

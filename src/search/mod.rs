@@ -52,8 +52,8 @@ mod trial;
 pub use anneal::{anneal_tree, AnnealParams};
 pub use bandit::{Arm, Bandit};
 pub use baseline::{
-    baseline_tree, file_order_entries, file_order_tree, sweep_order, sweep_tree, BaselineKind,
-    BASELINE_MAX_ENTRIES,
+    baseline_tree, component_file_order, file_order_entries, file_order_tree, sweep_order,
+    sweep_tree, BaselineKind, BASELINE_MAX_ENTRIES,
 };
 pub use bound::{op_width_lower_bound, width_lower_bound, WidthBound};
 pub use buckets::{order_tree, quotient_tree};

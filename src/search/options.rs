@@ -158,8 +158,8 @@ pub struct PhaseTimes {
 /// One of the simple orders priced before the trials, as found.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct CandidateScore {
-    /// Its name (`file-order`, `sweep`, `min-fill`, `min-degree`,
-    /// `dissection`, `greedy`, `exact`).
+    /// Its name (`file-order`, `sweep`, `file-order-by-component`,
+    /// `min-fill`, `min-degree`, `dissection`, `greedy`, `exact`).
     pub finder: String,
     /// log2 of its total ops.
     pub total_ops_log2: f64,
