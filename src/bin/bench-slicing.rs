@@ -16,7 +16,10 @@
 //! total ops of the chosen plan over the unsliced total ops of `fit`'s
 //! searched tree, with reuse (the figure in force) and plain (the same
 //! slice set with every slice repeating the invariant work); the floor is
-//! the lower bound on the chosen tree.
+//! the lower bound on the chosen tree. `cut` is how deep the budget really
+//! cuts: log2 of the peak of `fit`'s own searched tree (bytes) over the
+//! per-slice room (budget less the fixed part); the reference tree is often
+//! several bits wider than `fit`'s, so `cut` is often well below `r`.
 
 use std::io::Write;
 use std::time::{Duration, Instant};
@@ -110,10 +113,11 @@ fn main() {
         }
     }
     println!(
-        "{:<22} {:>4} {:>5} {:>5} {:>9} {:>9} {:>11} {:>10} {:>10} {:>8} {:<20} {:>7}",
+        "{:<22} {:>4} {:>5} {:>6} {:>5} {:>9} {:>9} {:>11} {:>10} {:>10} {:>8} {:<20} {:>7}",
         "case",
         "seed",
         "red.",
+        "cut",
         "fits",
         "ops 1",
         "ops S",
@@ -166,10 +170,11 @@ fn main() {
                 floor: r.overhead_lower_bound.as_ref().map(|b| b.overhead),
             };
             println!(
-                "{:<22} {:>4} {:>5} {:>5} {:>9} {:>9} {:>11.1} {:>9.3}x {:>9.3}x {:>8} {:<20} {:>7.1}",
+                "{:<22} {:>4} {:>5} {:>6.1} {:>5} {:>9} {:>9} {:>11.1} {:>9.3}x {:>9.3}x {:>8} {:<20} {:>7.1}",
                 case.family,
                 case.seed,
                 format!("2^{reduction}"),
+                r.tree.peak_log2 + (DTYPE.bytes() as f64).log2() - (budget as f64 - fixed).log2(),
                 if row.fits { "yes" } else { "NO" },
                 format!("2^{:.2}", r.tree.total_ops_log2),
                 s.map_or("-".to_string(), |s| format!("2^{:.2}", s.total_ops_log2)),

@@ -703,5 +703,6 @@ fn origin_name(o: Origin) -> &'static str {
         Origin::SliceAware => "slice-aware search",
         Origin::Exhaustive => "exhaustive search",
         Origin::SearchFront => "greedy on a narrower searched tree",
+        Origin::BisectionCut => "greedy from a balanced cut of the network",
     }
 }

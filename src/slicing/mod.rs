@@ -247,6 +247,9 @@ pub enum Origin {
     /// The greedy on another tree of the search's width/ops front (a
     /// narrower tree than the cheapest).
     SearchFront,
+    /// The greedy from the cut of a balanced bisection of the network, on
+    /// a tree re-planned for the network so sliced.
+    BisectionCut,
 }
 
 /// What the cover programme proved and proposed.
@@ -376,6 +379,67 @@ impl Pool {
             .fold(f64::INFINITY, f64::min)
     }
 
+    /// Slices a balanced cut of the network and slices on greedily: the
+    /// indices shared by the two halves of a balanced bisection
+    /// ([`crate::search::partition_tree`], `tries` seeds), with the tree
+    /// re-planned by `refit` for the network so sliced (within `cap`), the
+    /// greedy from that set, its first fitting set pruned. On lattices the
+    /// cut splits the network into strips, each narrow; the greedy, adding
+    /// one index where the peak is reached, does not find such a cut.
+    fn bisection_cut(
+        &mut self,
+        net: &Network,
+        opts: &SliceOptions,
+        refit: &mut Refit<'_>,
+        cap: f64,
+        tries: i32,
+    ) {
+        use rand::SeedableRng;
+        let problem = crate::search::Problem::from_network(net);
+        let n = net.num_tensors();
+        for seed in 1..=tries {
+            if opts.out_of_time() {
+                return;
+            }
+            let params = crate::search::PartitionParams {
+                imbalance: 0.05,
+                tries: 4,
+                seed,
+                ..Default::default()
+            };
+            let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed as u64);
+            let merges = crate::search::partition_tree(&problem, &params, &mut rng);
+            let Ok(halves) = Tree::new(n, merges) else {
+                continue;
+            };
+            let sets = NodeSets::new(net, &halves);
+            let [a, b] = sets.merge(n - 2);
+            let cut: Vec<IndexId> = sets.indices[a]
+                .iter()
+                .copied()
+                .filter(|e| sets.indices[b].contains(e) && net.indices[*e].dim > 1)
+                .collect();
+            let log2: f64 = cut
+                .iter()
+                .map(|&e| (net.indices[e].dim as f64).log2())
+                .sum();
+            if cut.is_empty() || log2 > opts.max_slices_log2 {
+                continue;
+            }
+            let Some(t) = refit(net, &cut, cap) else {
+                continue;
+            };
+            let id = self.tree_id(t);
+            let sets = NodeSets::new(net, &self.trees[id]);
+            let trail = greedy::greedy(&sets, net, opts, &cut);
+            let fit = trail
+                .iter()
+                .find(|p| p.fits(opts))
+                .map(|p| greedy::prune(&sets, net, opts, p));
+            self.add(fit, Origin::BisectionCut, id);
+        }
+    }
+
     /// The greedy trail on tree `id` and its first fitting set, pruned.
     fn greedy_on(&mut self, net: &Network, id: usize, opts: &SliceOptions, origin: Origin) {
         let sets = NodeSets::new(net, &self.trees[id]);
@@ -487,6 +551,10 @@ pub fn find_slices(
                 pool.greedy_on(net, id, opts, Origin::Cooptimised);
                 starts.push(t);
             }
+            if n_tensors_for_cut(net) {
+                let cap = unsliced.per_slice_width - needed.ceil();
+                pool.bisection_cut(net, opts, &mut **refit, cap.max(1.0), BISECTIONS);
+            }
         }
         if net.num_tensors() <= ELIMINATION_START_MAX {
             for t in [
@@ -561,6 +629,17 @@ pub fn find_slices(
         cover,
         bound,
     }
+}
+
+/// Balanced bisections whose cuts [`Pool::bisection_cut`] tries (each
+/// takes one tree re-plan).
+const BISECTIONS: i32 = 4;
+
+/// True when a balanced bisection is worth its time: networks of at least
+/// 16 tensors (smaller ones are searched exhaustively or nearly so) and at
+/// most [`ELIMINATION_START_MAX`].
+fn n_tensors_for_cut(net: &Network) -> bool {
+    (16..=ELIMINATION_START_MAX).contains(&net.num_tensors())
 }
 
 /// Trees of the search's front that the slice-aware search starts from
