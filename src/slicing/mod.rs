@@ -6,7 +6,7 @@
 //! slice set whose slices fit (see [`crate::cost::memory`] for what a process
 //! needs), the slices-versus-ops frontier met on the way, and, for the final
 //! tree, a proven lower bound on the number of slices from the cover
-//! programme. Three searches contribute candidates:
+//! programme. These searches contribute candidates:
 //!
 //! * greedy ([`greedy`]): repeatedly slice the index that, among those live
 //!   at the step where the peak is reached, gives the smallest total ops
@@ -15,8 +15,13 @@
 //! * the cover programme ([`cover`]): a 0/1 programme over indices that puts
 //!   every tensor of the slice under a size cap, tightened until the true
 //!   peak fits;
-//! * co-optimisation: a caller-supplied tree finder re-plans the tree for
-//!   the sliced network and the greedy continues on the better tree.
+//! * when the tree may change (a caller-supplied tree finder): the greedy
+//!   on the other trees of the search's width/ops front; the slice-aware
+//!   search ([`joint`]), which interleaves slicing with reconfiguration of
+//!   the sliced tree, from several starts; the cuts of balanced bisections,
+//!   sliced whole on a tree re-planned for them; and the greedy that
+//!   re-plans the whole tree after each index it adds;
+//! * finally a swap search ([`greedy::swap_search`]) on the best sets.
 //!
 //! # Complexity
 //!
@@ -465,7 +470,9 @@ impl Pool {
 ///    ([`joint::search`]) from `tree`, restarted with other
 ///    reconfiguration windows while time is left (until 35%);
 /// 3. with `refit`: trees re-planned from the start for a smaller width
-///    (the whole needed reduction, and half of it), sliced greedily;
+///    (the whole needed reduction, and half of it), sliced greedily; and
+///    the cuts of [`BISECTIONS`] balanced bisections, each sliced whole on
+///    a tree re-planned for it, then greedily;
 /// 4. with `refit`: the slice-aware search from the front trees whose
 ///    greedy sets are cheapest, those re-planned trees, and min-fill and
 ///    min-degree elimination trees (until 75%);
