@@ -74,7 +74,7 @@ const WINDOW: usize = 6;
 /// Runs [`descend`] from each tree in `starts` in turn, giving each an
 /// equal share of the time left before `opts.deadline`; while time is
 /// left (with a deadline), goes round the starts again with new seeds
-/// (other reconfiguration windows), at most [`MAX_ROUNDS`] times. Returns
+/// (other reconfiguration windows), at most 16 times. Returns
 /// every point met with its tree.
 pub fn search(net: &Network, starts: &[Tree], opts: &SliceOptions) -> Vec<(Point, Tree)> {
     let mut out = Vec::new();

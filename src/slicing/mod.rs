@@ -471,7 +471,7 @@ impl Pool {
 ///    reconfiguration windows while time is left (until 35%);
 /// 3. with `refit`: trees re-planned from the start for a smaller width
 ///    (the whole needed reduction, and half of it), sliced greedily; and
-///    the cuts of [`BISECTIONS`] balanced bisections, each sliced whole on
+///    the cuts of four balanced bisections, each sliced whole on
 ///    a tree re-planned for it, then greedily;
 /// 4. with `refit`: the slice-aware search from the front trees whose
 ///    greedy sets are cheapest, those re-planned trees, and min-fill and
