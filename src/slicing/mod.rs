@@ -470,12 +470,13 @@ impl Pool {
 ///    ([`joint::search`]) from `tree`, restarted with other
 ///    reconfiguration windows while time is left (until 35%);
 /// 3. with `refit`: trees re-planned from the start for a smaller width
-///    (the whole needed reduction, and half of it), sliced greedily; and
-///    the cuts of four balanced bisections, each sliced whole on
-///    a tree re-planned for it, then greedily;
+///    (the whole needed reduction, and half of it), sliced greedily;
 /// 4. with `refit`: the slice-aware search from the front trees whose
 ///    greedy sets are cheapest, those re-planned trees, and min-fill and
-///    min-degree elimination trees (until 75%);
+///    min-degree elimination trees (until 75%); then the cuts of four
+///    balanced bisections, each sliced whole on a tree re-planned for it,
+///    then greedily (after the slice-aware search, whose time the four
+///    re-plans would otherwise take: on a circuit that cost 6x to 30x);
 /// 5. with `refit`: the greedy that re-plans the whole tree after each
 ///    index it adds, at most `rounds` times (until 92%);
 /// 6. the swap search ([`greedy::swap_search`]) from the best sets of the
@@ -558,10 +559,6 @@ pub fn find_slices(
                 pool.greedy_on(net, id, opts, Origin::Cooptimised);
                 starts.push(t);
             }
-            if n_tensors_for_cut(net) {
-                let cap = unsliced.per_slice_width - needed.ceil();
-                pool.bisection_cut(net, opts, &mut **refit, cap.max(1.0), BISECTIONS);
-            }
         }
         if net.num_tensors() <= ELIMINATION_START_MAX {
             for t in [
@@ -575,6 +572,14 @@ pub fn find_slices(
         }
         let o = share(0.75);
         pool.add_with_trees(joint::search(net, &starts, &o), Origin::SliceAware);
+        if let Some(refit) = refit.as_mut() {
+            if n_tensors_for_cut(net) {
+                let target = opts.avail_elements(net) * opts.dtype.bytes() as f64;
+                let needed = unsliced.excess_log2() - target.max(1.0).log2();
+                let cap = unsliced.per_slice_width - needed.ceil();
+                pool.bisection_cut(net, opts, &mut **refit, cap.max(1.0), BISECTIONS);
+            }
+        }
         // Co-optimisation: slice one index at a time and re-plan the tree
         // for the sliced network after each.
         if let Some(refit) = refit.as_mut() {
