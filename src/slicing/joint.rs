@@ -112,8 +112,7 @@ pub fn descend(net: &Network, start: &Tree, opts: &SliceOptions, seed: u64) -> V
     let mut sets = NodeSets::new(net, &tree);
     let mut current = Point::evaluate(&sets, net, &[], opts);
     let mut out = vec![(current.clone(), tree.clone())];
-    let target = opts.avail_elements(net) * opts.dtype.bytes() as f64;
-    let needed = (current.excess_log2() - target.max(1.0).log2()).max(0.0);
+    let needed = opts.needed_log2(net, &current).max(0.0);
     let max_rounds = 2 * needed.ceil() as usize + 8;
     let mut rounds = 0;
     // Past the deadline or the round cap no reconfiguration starts, but the

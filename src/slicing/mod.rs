@@ -100,6 +100,13 @@ impl SliceOptions {
             .is_some_and(|d| std::time::Instant::now() >= d)
     }
 
+    /// log2 of how far the process's need at `p` must come down to fit
+    /// (negative when it fits with room to spare).
+    pub fn needed_log2(&self, net: &Network, p: &Point) -> f64 {
+        let target = self.avail_elements(net) * self.dtype.bytes() as f64;
+        p.excess_log2() - target.max(1.0).log2()
+    }
+
     /// Elements a process has for held intermediates and slices: the budget
     /// less inputs and output, over the element size.
     pub fn avail_elements(&self, net: &Network) -> f64 {
@@ -437,11 +444,11 @@ impl Pool {
             let id = self.tree_id(t);
             let sets = NodeSets::new(net, &self.trees[id]);
             let trail = greedy::greedy(&sets, net, opts, &cut);
-            let fit = trail
-                .iter()
-                .find(|p| p.fits(opts))
-                .map(|p| greedy::prune(&sets, net, opts, p));
-            self.add(fit, Origin::BisectionCut, id);
+            self.add(
+                pruned_fit(&sets, net, opts, &trail),
+                Origin::BisectionCut,
+                id,
+            );
         }
     }
 
@@ -449,13 +456,23 @@ impl Pool {
     fn greedy_on(&mut self, net: &Network, id: usize, opts: &SliceOptions, origin: Origin) {
         let sets = NodeSets::new(net, &self.trees[id]);
         let trail = greedy::greedy(&sets, net, opts, &[]);
-        let fit = trail
-            .iter()
-            .find(|p| p.fits(opts))
-            .map(|p| greedy::prune(&sets, net, opts, p));
+        let fit = pruned_fit(&sets, net, opts, &trail);
         self.add(trail, origin, id);
         self.add(fit, origin, id);
     }
+}
+
+/// The first fitting point of a greedy trail, pruned.
+fn pruned_fit(
+    sets: &NodeSets,
+    net: &Network,
+    opts: &SliceOptions,
+    trail: &[Point],
+) -> Option<Point> {
+    trail
+        .iter()
+        .find(|p| p.fits(opts))
+        .map(|p| greedy::prune(sets, net, opts, p))
 }
 
 /// Finds a slice set that fits the budget, starting from `tree`.
@@ -545,8 +562,7 @@ pub fn find_slices(
             starts.push(pool.trees[id].clone());
         }
         if let Some(refit) = refit.as_mut() {
-            let target = opts.avail_elements(net) * opts.dtype.bytes() as f64;
-            let needed = unsliced.excess_log2() - target.max(1.0).log2();
+            let needed = opts.needed_log2(net, &unsliced);
             for share in [1.0, 0.5] {
                 let cap = unsliced.per_slice_width - (needed * share).ceil();
                 if cap < 1.0 || opts.out_of_time() {
@@ -574,8 +590,7 @@ pub fn find_slices(
         pool.add_with_trees(joint::search(net, &starts, &o), Origin::SliceAware);
         if let Some(refit) = refit.as_mut() {
             if n_tensors_for_cut(net) {
-                let target = opts.avail_elements(net) * opts.dtype.bytes() as f64;
-                let needed = unsliced.excess_log2() - target.max(1.0).log2();
+                let needed = opts.needed_log2(net, &unsliced);
                 let cap = unsliced.per_slice_width - needed.ceil();
                 pool.bisection_cut(net, opts, &mut **refit, cap.max(1.0), BISECTIONS);
             }
